@@ -1,0 +1,97 @@
+//! `runcal check`: the CI gate. Exit 1 when new data drift from the saved calibration.
+
+use crate::cli::{InputArgs, OutputArgs, TiesArg, WeightArg};
+use crate::error::Error;
+use crate::fit::{self, loss};
+use crate::gate::{self, Bounds};
+use crate::profile::Profile;
+use crate::report::CheckReport;
+
+/// Score new season files with a saved calibration and refit it; fail (exit 1) when an error bound is
+/// exceeded or a refitted parameter drifts more than S standard errors from the saved one.
+///
+/// Example:
+///   runcal fit history.csv --save-profile league.json
+///   runcal check new-season.csv --profile league.json --max-mae 0.03 --max-drift 3
+#[derive(Debug, clap::Args)]
+#[command(verbatim_doc_comment)]
+pub struct Args {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// The saved calibration (from `runcal fit --save-profile`).
+    #[arg(long, required = true, value_name = "FILE")]
+    pub profile: String,
+    /// Fail when the calibration's MAE on the new data exceeds X.
+    #[arg(long, value_name = "X")]
+    pub max_mae: Option<f64>,
+    /// Fail when its RMSE exceeds X.
+    #[arg(long, value_name = "X")]
+    pub max_rmse: Option<f64>,
+    /// Fail when its log-loss exceeds X.
+    #[arg(long, value_name = "X")]
+    pub max_logloss: Option<f64>,
+    /// Fail when a refitted parameter lies more than S standard errors (of the difference) from the
+    /// saved one.
+    #[arg(long, value_name = "S", default_value_t = 3.0)]
+    pub max_drift: f64,
+    /// Skip the drift rule (only the error bounds apply).
+    #[arg(long)]
+    pub no_drift: bool,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+pub fn run(args: &Args) -> Result<u8, Error> {
+    let diag = super::diagnostics(&args.output);
+    let files = &args.input.files;
+    super::guard_outputs(&[args.output.output.as_ref()], files)?;
+    for (name, v) in [("--max-mae", args.max_mae), ("--max-rmse", args.max_rmse), ("--max-logloss", args.max_logloss)] {
+        if let Some(x) = v
+            && !(x.is_finite() && x >= 0.0)
+        {
+            return Err(Error::Usage(format!("{name} must be a non-negative number, got {x}")));
+        }
+    }
+    if !(args.max_drift.is_finite() && args.max_drift > 0.0) {
+        return Err(Error::Usage(format!("--max-drift must be a positive number, got {}", args.max_drift)));
+    }
+    let profile = Profile::load(&args.profile)?;
+    let mut input = args.input.clone();
+    input.ties = match profile.ties {
+        crate::data::TiePolicy::Half => TiesArg::Half,
+        crate::data::TiePolicy::Exclude => TiesArg::Exclude,
+    };
+    input.weight = match profile.weight {
+        crate::data::Weighting::None => WeightArg::None,
+        crate::data::Weighting::Games => WeightArg::Games,
+    };
+    let (ds, table) = super::load(&input, None, &diag)?;
+    let saved = profile.model();
+    let scored = loss::metrics(&table, saved.kind, &saved.params, None);
+    let refit = fit::fit_model(&table, saved.kind, profile.loss)?;
+    let bounds = Bounds {
+        max_mae: args.max_mae,
+        max_rmse: args.max_rmse,
+        max_logloss: args.max_logloss,
+        max_drift: (!args.no_drift).then_some(args.max_drift),
+    };
+    let rules = gate::evaluate(&profile, &scored, &refit, &bounds).map_err(Error::Usage)?;
+    if rules.is_empty() {
+        return Err(Error::Usage("no rule to check: give --max-mae, --max-rmse or --max-logloss, or drop --no-drift".to_string()));
+    }
+    let passed = rules.iter().all(|r| r.passed);
+    let report = CheckReport {
+        profile: args.profile.clone(),
+        rows_used: ds.rows.len(),
+        rows_rejected: ds.rejected.len(),
+        passed,
+        verdict: gate::verdict(&rules),
+        rules,
+    };
+    super::emit(&report, &args.output, files)?;
+    if !passed && args.output.format != crate::cli::Format::Table {
+        // Machine formats go to stdout; the reason still reaches a person reading the CI log.
+        diag.warn(&report.verdict);
+    }
+    Ok(if passed { 0 } else { super::EXIT_CHECK_FAILED })
+}

@@ -1,0 +1,68 @@
+//! One file per subcommand: glue only (load → compute → report).
+
+pub mod backtest;
+pub mod check;
+pub mod fit;
+pub mod luck;
+pub mod simulate;
+
+use crate::cli::{InputArgs, OutputArgs};
+use crate::data::{self, Dataset, Table, gamelog::Date};
+use crate::error::Error;
+use crate::model::ModelKind;
+use crate::output::Diagnostics;
+use crate::report::{self, Report};
+
+/// Exit code of a check that ran and failed.
+pub const EXIT_CHECK_FAILED: u8 = 1;
+
+pub fn diagnostics(out: &OutputArgs) -> Diagnostics {
+    Diagnostics { quiet: out.quiet, verbose: out.verbose }
+}
+
+/// Load, validate and tabulate the inputs; report what was set aside.
+pub fn load(input: &InputArgs, as_of: Option<Date>, diag: &Diagnostics) -> Result<(Dataset, Table), Error> {
+    let mut ds = data::load(&input.files, input.games, as_of, &input.load_options())?;
+    data::table::decided_rows(&mut ds, input.tie_policy(), input.skip_invalid)?;
+    diag.dataset(&ds);
+    ds.require_rows(&input.files.join(", "))?;
+    let table = Table::new(&ds.rows, input.tie_policy(), input.weighting());
+    Ok((ds, table))
+}
+
+/// Render and write a report.
+pub fn emit(report: &dyn Report, out: &OutputArgs, inputs: &[String]) -> Result<(), Error> {
+    let bytes = report::render(report, out.format)?;
+    let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
+    crate::output::emit(out.output.as_deref(), &inputs, &bytes)
+}
+
+/// Parse `--model a,b` or `all`, keeping the user's order and dropping repeats.
+pub fn parse_models(list: &str) -> Result<Vec<ModelKind>, Error> {
+    if list.trim().eq_ignore_ascii_case("all") {
+        return Ok(ModelKind::ALL.to_vec());
+    }
+    let mut kinds = Vec::new();
+    for name in list.split(',') {
+        let k: ModelKind = name.parse().map_err(Error::Usage)?;
+        if !kinds.contains(&k) {
+            kinds.push(k);
+        }
+    }
+    Ok(kinds)
+}
+
+/// The first and last season of a dataset.
+pub fn season_span(ds: &Dataset) -> Option<(i32, i32)> {
+    let s = ds.seasons();
+    Some((*s.first()?, *s.last()?))
+}
+
+/// Refuse before any work when an output would overwrite an input.
+pub fn guard_outputs(outputs: &[Option<&String>], inputs: &[String]) -> Result<(), Error> {
+    let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
+    for o in outputs.iter().flatten() {
+        crate::output::check_not_input(o, &inputs)?;
+    }
+    Ok(())
+}

@@ -1,0 +1,287 @@
+//! Reading input: column roles, header normalisation, `--map`, validation, game-log aggregation.
+//! Nothing here prints; warnings and rejections are returned to the caller.
+
+pub mod gamelog;
+pub mod input;
+pub mod roles;
+pub mod season;
+pub mod table;
+
+use std::collections::HashMap;
+
+use crate::error::{DataError, Location, Rejection};
+pub use roles::Mapping;
+pub use table::{Table, TiePolicy, Weighting};
+
+/// One team's season (or season so far), as read or aggregated.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct TeamSeason {
+    pub season: i32,
+    pub league: Option<String>,
+    pub team: String,
+    pub wins: u64,
+    pub losses: u64,
+    pub ties: u64,
+    pub runs_scored: f64,
+    pub runs_allowed: f64,
+    /// Games played: the `games` column, or W+L+T when the file has none.
+    pub games: u64,
+    /// Record in games decided by one run (point, goal): (wins, losses). Game logs only.
+    pub one_run: Option<(u64, u64)>,
+    #[serde(skip)]
+    pub at: Location,
+}
+
+impl TeamSeason {
+    pub fn decisions(&self) -> u64 {
+        self.wins + self.losses + self.ties
+    }
+}
+
+/// An inclusive range of seasons, from `--seasons 1980-2006` or `--seasons 2019`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct SeasonRange {
+    pub first: i32,
+    pub last: i32,
+}
+
+impl std::str::FromStr for SeasonRange {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        let parse = |t: &str| {
+            t.trim()
+                .parse::<i32>()
+                .map_err(|_| format!("expected a season like 2019 or a range like 1980-2006, got '{s}'"))
+        };
+        let (first, last) = match s.trim().split_once('-') {
+            Some((a, b)) => (parse(a)?, parse(b)?),
+            None => {
+                let y = parse(s)?;
+                (y, y)
+            }
+        };
+        if first > last {
+            return Err(format!("season range '{s}' ends before it starts"));
+        }
+        Ok(SeasonRange { first, last })
+    }
+}
+
+/// How to read and filter input.
+#[derive(Debug, Clone)]
+pub struct LoadOptions {
+    pub maps: Vec<Mapping>,
+    pub seasons: Option<SeasonRange>,
+    pub league: Option<String>,
+    pub skip_invalid: bool,
+    pub max_rows: u64,
+    pub max_line_bytes: usize,
+}
+
+impl Default for LoadOptions {
+    fn default() -> Self {
+        LoadOptions {
+            maps: Vec::new(),
+            seasons: None,
+            league: None,
+            skip_invalid: false,
+            max_rows: 50_000_000,
+            max_line_bytes: input::DEFAULT_MAX_LINE_BYTES,
+        }
+    }
+}
+
+impl LoadOptions {
+    fn keeps(&self, season: i32, league: Option<&str>) -> bool {
+        if let Some(r) = self.seasons
+            && (season < r.first || season > r.last)
+        {
+            return false;
+        }
+        if let Some(want) = &self.league {
+            return league.is_some_and(|l| l.eq_ignore_ascii_case(want));
+        }
+        true
+    }
+}
+
+/// The rows that survived validation, with everything that was set aside and why.
+#[derive(Debug, Clone, Default)]
+pub struct Dataset {
+    pub rows: Vec<TeamSeason>,
+    pub rejected: Vec<Rejection>,
+    pub warnings: Vec<String>,
+    /// Rows left out by `--seasons` or `--league` (not errors).
+    pub filtered_out: u64,
+}
+
+impl Dataset {
+    /// Distinct seasons in ascending order.
+    pub fn seasons(&self) -> Vec<i32> {
+        let mut s: Vec<i32> = self.rows.iter().map(|r| r.season).collect();
+        s.sort_unstable();
+        s.dedup();
+        s
+    }
+
+    /// Fail with a clear message when nothing is left to work on.
+    pub fn require_rows(&self, what: &str) -> Result<(), DataError> {
+        if !self.rows.is_empty() {
+            return Ok(());
+        }
+        let hint = if self.filtered_out > 0 {
+            format!(
+                " ({} rows were outside --seasons/--league)",
+                self.filtered_out
+            )
+        } else if !self.rejected.is_empty() {
+            format!(" (all {} rows were rejected)", self.rejected.len())
+        } else {
+            " (the input has a header but no data rows)".to_string()
+        };
+        Err(DataError::NoRows {
+            what: what.to_string(),
+            hint,
+        })
+    }
+
+    /// Record a bad row: an error, or with `--skip-invalid` a rejection to report and count.
+    pub(crate) fn reject(&mut self, skip_invalid: bool, r: Rejection) -> Result<(), DataError> {
+        if skip_invalid {
+            self.rejected.push(r);
+            Ok(())
+        } else {
+            Err(DataError::Rejected(r))
+        }
+    }
+
+    /// Checks that need the whole table: duplicates, odd game counts, very short seasons.
+    pub(crate) fn finish(&mut self, skip_invalid: bool) -> Result<(), DataError> {
+        let mut seen: HashMap<(i32, Option<String>, String), Location> = HashMap::new();
+        let mut keep = Vec::with_capacity(self.rows.len());
+        for row in std::mem::take(&mut self.rows) {
+            let key = (row.season, row.league.clone(), row.team.clone());
+            if let Some(first) = seen.get(&key) {
+                let league = row.league.as_deref().map(|l| format!(" {l}")).unwrap_or_default();
+                let reason = format!(
+                    "duplicate team-season {}{} {} (first at {})",
+                    row.season, league, row.team, first
+                );
+                self.reject(skip_invalid, Rejection { at: row.at.clone(), reason })?;
+                continue;
+            }
+            seen.insert(key, row.at.clone());
+            keep.push(row);
+        }
+        self.rows = keep;
+
+        let odd: Vec<&TeamSeason> = self
+            .rows
+            .iter()
+            .filter(|r| r.games != r.decisions())
+            .collect();
+        if let Some(first) = odd.first() {
+            self.warnings.push(format!(
+                "{} team-seasons have games different from W+L+T (unfinished or replayed games?); accepted, first at {} ({} games, {} decisions)",
+                odd.len(),
+                first.at,
+                first.games,
+                first.decisions()
+            ));
+        }
+        let mut lengths: Vec<u64> = self.rows.iter().map(|r| r.games).collect();
+        lengths.sort_unstable();
+        if let Some(&median) = lengths.get(lengths.len() / 2) {
+            let short: Vec<&TeamSeason> = self.rows.iter().filter(|r| r.games * 2 < median).collect();
+            if let Some(first) = short.first() {
+                self.warnings.push(format!(
+                    "{} team-seasons are very short (under half the median of {median} games); fitted, but their win% is noisy; first at {} ({} games)",
+                    short.len(),
+                    first.at,
+                    first.games
+                ));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Parse a count (wins, losses, ties, games): a finite, non-negative whole number.
+pub(crate) fn parse_count(text: &str) -> Result<u64, String> {
+    let v = parse_number(text)?;
+    if v.fract() != 0.0 {
+        return Err(format!("expected a whole number, found '{text}'"));
+    }
+    if v > 1e15 {
+        return Err(format!("'{text}' is too large for a count"));
+    }
+    Ok(v as u64)
+}
+
+/// Parse a non-negative finite number (runs may be fractional, e.g. averaged).
+pub(crate) fn parse_number(text: &str) -> Result<f64, String> {
+    let t = text.trim();
+    if t.is_empty() {
+        return Err("expected a number, found an empty field".to_string());
+    }
+    let v: f64 = t
+        .parse()
+        .map_err(|_| format!("expected a number, found '{t}'"))?;
+    if !v.is_finite() {
+        return Err(format!("expected a finite number, found '{t}'"));
+    }
+    if v < 0.0 {
+        return Err(format!("expected a non-negative number, found '{t}'"));
+    }
+    Ok(v)
+}
+
+/// Read team-season files, or game logs when `games` is set, into one dataset.
+pub fn load(
+    paths: &[String],
+    game_logs: bool,
+    as_of: Option<gamelog::Date>,
+    opts: &LoadOptions,
+) -> Result<Dataset, DataError> {
+    if game_logs {
+        gamelog::load(paths, as_of, opts)
+    } else {
+        if as_of.is_some() {
+            return Err(DataError::Usage(
+                "--as-of needs game logs (add --games)".to_string(),
+            ));
+        }
+        season::load(paths, opts)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn season_ranges_parse() {
+        assert_eq!(
+            "1980-2006".parse::<SeasonRange>().unwrap(),
+            SeasonRange { first: 1980, last: 2006 }
+        );
+        assert_eq!(
+            "2019".parse::<SeasonRange>().unwrap(),
+            SeasonRange { first: 2019, last: 2019 }
+        );
+        assert!("2006-1980".parse::<SeasonRange>().is_err());
+        assert!("x".parse::<SeasonRange>().is_err());
+    }
+
+    #[test]
+    fn counts_reject_text_negatives_and_fractions() {
+        assert_eq!(parse_count("81"), Ok(81));
+        assert_eq!(parse_count("81.0"), Ok(81));
+        assert!(parse_count("-1").is_err());
+        assert!(parse_count("8.5").is_err());
+        assert!(parse_count("NaN").is_err());
+        assert!(parse_count("inf").is_err());
+        assert!(parse_count("1e400").is_err());
+        assert!(parse_count("").is_err());
+    }
+}

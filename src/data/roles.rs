@@ -1,0 +1,179 @@
+//! Column roles: header normalisation, generic trade aliases and `--map` overrides.
+
+use crate::error::DataError;
+
+/// Normalise a header: trim, lower-case, runs of non-alphanumerics become `_`, no `_` at either end.
+/// A UTF-8 byte-order mark at the start of the file is dropped here too.
+pub fn normalise_header(raw: &str) -> String {
+    let raw = raw.trim_start_matches('\u{feff}').trim();
+    let mut out = String::with_capacity(raw.len());
+    let mut pending_sep = false;
+    for ch in raw.chars() {
+        if ch.is_alphanumeric() {
+            if pending_sep && !out.is_empty() {
+                out.push('_');
+            }
+            pending_sep = false;
+            out.extend(ch.to_lowercase());
+        } else {
+            pending_sep = true;
+        }
+    }
+    out
+}
+
+/// A role a column can play, with the normalised headers that claim it without `--map`.
+#[derive(Debug, Clone, Copy)]
+pub struct RoleSpec {
+    pub name: &'static str,
+    pub aliases: &'static [&'static str],
+    pub required: bool,
+}
+
+/// Which column plays each role in one file (indices into the record), in the order of the specs.
+#[derive(Debug, Clone)]
+pub struct ColumnMap {
+    pub index: Vec<Option<usize>>,
+    pub headers: Vec<String>,
+}
+
+impl ColumnMap {
+    /// The header of a role's column, as written in the file.
+    pub fn header_of(&self, role: usize) -> Option<&str> {
+        self.index[role].map(|i| self.headers[i].as_str())
+    }
+}
+
+/// A `--map ROLE=HEADER` override.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Mapping {
+    pub role: String,
+    pub header: String,
+}
+
+impl std::str::FromStr for Mapping {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        let (role, header) = s
+            .split_once('=')
+            .ok_or_else(|| format!("expected ROLE=HEADER, got '{s}'"))?;
+        let role = normalise_header(role);
+        if role.is_empty() || header.trim().is_empty() {
+            return Err(format!("expected ROLE=HEADER, got '{s}'"));
+        }
+        Ok(Mapping {
+            role,
+            header: header.trim().to_string(),
+        })
+    }
+}
+
+/// Check that every `--map` names a known role.
+pub fn check_mappings(specs: &[RoleSpec], maps: &[Mapping]) -> Result<(), DataError> {
+    for m in maps {
+        if !specs.iter().any(|s| s.name == m.role) {
+            let known: Vec<&str> = specs.iter().map(|s| s.name).collect();
+            return Err(DataError::Usage(format!(
+                "--map {}={}: unknown role '{}' (roles: {})",
+                m.role,
+                m.header,
+                m.role,
+                known.join(", ")
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// Match a file's headers to roles. `--map` wins over aliases; two columns claiming one role is an error.
+pub fn resolve(
+    file: &str,
+    headers: &[String],
+    specs: &[RoleSpec],
+    maps: &[Mapping],
+) -> Result<ColumnMap, DataError> {
+    let normalised: Vec<String> = headers.iter().map(|h| normalise_header(h)).collect();
+    for (i, h) in normalised.iter().enumerate() {
+        if h.is_empty() {
+            continue;
+        }
+        if let Some(j) = normalised[..i].iter().position(|o| o == h) {
+            return Err(DataError::DuplicateHeader {
+                file: file.to_string(),
+                header: headers[i].clone(),
+                first: j + 1,
+                second: i + 1,
+            });
+        }
+    }
+    let mut index = vec![None; specs.len()];
+    for (r, spec) in specs.iter().enumerate() {
+        if let Some(m) = maps.iter().rev().find(|m| m.role == spec.name) {
+            let wanted = normalise_header(&m.header);
+            let found = normalised.iter().position(|h| *h == wanted);
+            match found {
+                Some(i) => index[r] = Some(i),
+                None => {
+                    return Err(DataError::MappedHeaderMissing {
+                        file: file.to_string(),
+                        role: spec.name,
+                        header: m.header.clone(),
+                        headers: headers.join(", "),
+                    });
+                }
+            }
+            continue;
+        }
+        let mut hit: Option<usize> = None;
+        for (i, h) in normalised.iter().enumerate() {
+            let mapped_elsewhere = maps
+                .iter()
+                .any(|m| m.role != spec.name && normalise_header(&m.header) == *h);
+            if mapped_elsewhere || !spec.aliases.contains(&h.as_str()) {
+                continue;
+            }
+            if let Some(prev) = hit {
+                return Err(DataError::AmbiguousRole {
+                    file: file.to_string(),
+                    role: spec.name,
+                    first: headers[prev].clone(),
+                    second: headers[i].clone(),
+                });
+            }
+            hit = Some(i);
+        }
+        if hit.is_none() && spec.required {
+            return Err(DataError::MissingRole {
+                file: file.to_string(),
+                role: spec.name,
+                looked_for: spec.aliases.join(", "),
+            });
+        }
+        index[r] = hit;
+    }
+    Ok(ColumnMap {
+        index,
+        headers: headers.iter().map(|h| h.trim_start_matches('\u{feff}').to_string()).collect(),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn normalises_spaces_case_and_punctuation() {
+        assert_eq!(normalise_header("  Runs Scored "), "runs_scored");
+        assert_eq!(normalise_header("\u{feff}W-L%"), "w_l");
+        assert_eq!(normalise_header("R/G"), "r_g");
+        assert_eq!(normalise_header("__a__b__"), "a_b");
+    }
+
+    #[test]
+    fn mapping_parses_role_and_header() {
+        let m: Mapping = "Runs_Scored=R".parse().unwrap();
+        assert_eq!(m.role, "runs_scored");
+        assert_eq!(m.header, "R");
+        assert!("nothing".parse::<Mapping>().is_err());
+    }
+}

@@ -1,0 +1,139 @@
+//! Typed errors of the library. The binary maps them to exit codes and adds context.
+
+use std::fmt;
+
+/// Where in an input a problem was found.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct Location {
+    pub file: String,
+    /// 1-based physical line of the record's start; `None` for file-level problems.
+    pub line: Option<u64>,
+    /// The header of the offending column, as written in the file.
+    pub column: Option<String>,
+}
+
+impl fmt::Display for Location {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}", self.file)?;
+        if let Some(line) = self.line {
+            write!(f, ":{line}")?;
+        }
+        if let Some(column) = &self.column {
+            write!(f, ": column '{column}'")?;
+        }
+        Ok(())
+    }
+}
+
+/// One input row that could not be used, and why.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct Rejection {
+    #[serde(flatten)]
+    pub at: Location,
+    pub reason: String,
+}
+
+impl fmt::Display for Rejection {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}: {}", self.at, self.reason)
+    }
+}
+
+/// Errors from reading and validating input.
+#[derive(Debug, thiserror::Error)]
+pub enum DataError {
+    #[error("{file}: cannot read: {source}")]
+    Io {
+        file: String,
+        #[source]
+        source: std::io::Error,
+    },
+    #[error("{0}")]
+    Rejected(Rejection),
+    #[error("{file}: no column for {role} (looked for headers {looked_for}); name it with --map {role}=HEADER")]
+    MissingRole {
+        file: String,
+        role: &'static str,
+        looked_for: String,
+    },
+    #[error("{file}: columns '{first}' and '{second}' both look like {role}; choose one with --map {role}=HEADER")]
+    AmbiguousRole {
+        file: String,
+        role: &'static str,
+        first: String,
+        second: String,
+    },
+    #[error("{file}: --map {role}={header}: the file has no header '{header}' (headers: {headers})")]
+    MappedHeaderMissing {
+        file: String,
+        role: &'static str,
+        header: String,
+        headers: String,
+    },
+    #[error("{file}: the header appears twice: '{header}' (columns {first} and {second})")]
+    DuplicateHeader {
+        file: String,
+        header: String,
+        first: usize,
+        second: usize,
+    },
+    #[error("{file}: the file is empty (expected a header line)")]
+    Empty { file: String },
+    #[error("{what}: no rows left to use{hint}")]
+    NoRows { what: String, hint: String },
+    #[error("{file}: more than {limit} rows; raise the limit with --max-rows if the file is genuine")]
+    TooManyRows { file: String, limit: u64 },
+    #[error("{0}")]
+    Usage(String),
+}
+
+/// Errors from fitting and scoring.
+#[derive(Debug, thiserror::Error)]
+pub enum FitError {
+    #[error("cannot fit {model}: {reason}")]
+    NoMinimum { model: String, reason: String },
+    #[error("solver failed for {model}: {message}")]
+    Solver { model: String, message: String },
+    #[error("{0}")]
+    Invalid(String),
+}
+
+/// Errors from saved calibrations.
+#[derive(Debug, thiserror::Error)]
+pub enum ProfileError {
+    #[error("{file}: cannot read profile: {source}")]
+    Io {
+        file: String,
+        #[source]
+        source: std::io::Error,
+    },
+    #[error("{file}: not a runcal profile: {reason}")]
+    Invalid { file: String, reason: String },
+    #[error("{file}: profile schema '{found}' is not supported (this runcal reads '{expected}')")]
+    Version {
+        file: String,
+        found: String,
+        expected: String,
+    },
+}
+
+/// Any library error, for the binary to map to an exit code.
+#[derive(Debug, thiserror::Error)]
+pub enum Error {
+    #[error(transparent)]
+    Data(#[from] DataError),
+    #[error(transparent)]
+    Fit(#[from] FitError),
+    #[error(transparent)]
+    Profile(#[from] ProfileError),
+    #[error("{file}: cannot write: {source}")]
+    Write {
+        file: String,
+        #[source]
+        source: std::io::Error,
+    },
+    #[error("{0}")]
+    Usage(String),
+}
+
+pub type Result<T, E = Error> = std::result::Result<T, E>;

@@ -1,0 +1,150 @@
+//! Losses and metrics, exactly as DESIGN defines them.
+
+use crate::data::Table;
+use crate::model::{ModelKind, Row, predict};
+
+/// Log-loss clamps p̂ here so that a team that never scored (p̂ = 0) gives a large, finite loss.
+pub const LOGLOSS_CLAMP: f64 = 1e-12;
+
+/// What a fit minimises.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Loss {
+    /// Mean absolute error in win%.
+    Mae,
+    /// Root mean squared error in win%.
+    Rmse,
+    /// Binomial log-likelihood per game.
+    Logloss,
+}
+
+impl Loss {
+    pub fn name(self) -> &'static str {
+        match self {
+            Loss::Mae => "mae",
+            Loss::Rmse => "rmse",
+            Loss::Logloss => "logloss",
+        }
+    }
+
+    /// The loss's value in a set of metrics.
+    pub fn of(self, m: &Metrics) -> f64 {
+        match self {
+            Loss::Mae => m.mae,
+            Loss::Rmse => m.rmse,
+            Loss::Logloss => m.logloss,
+        }
+    }
+}
+
+impl std::fmt::Display for Loss {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// Every metric of a model on a table.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Metrics {
+    pub mae: f64,
+    pub rmse: f64,
+    pub logloss: f64,
+    /// Mean of (win% − p̂): positive when teams beat their scoring on average.
+    pub bias: f64,
+    pub max_abs: f64,
+    /// RMSE in wins over the data's mean season length.
+    pub rmse_wins: f64,
+}
+
+#[inline]
+fn clamp(p: f64) -> f64 {
+    p.clamp(LOGLOSS_CLAMP, 1.0 - LOGLOSS_CLAMP)
+}
+
+/// The negative binomial log-likelihood of one row with expected win% `p` (not divided by games).
+#[inline]
+pub fn row_nll(wins: f64, losses: f64, p: f64) -> f64 {
+    let p = clamp(p);
+    -(wins * p.ln() + losses * (1.0 - p).ln())
+}
+
+/// The value of one loss. `counts` multiplies each row (bootstrap resamples); `None` means once each.
+pub fn loss_value(t: &Table, kind: ModelKind, params: &[f64], loss: Loss, counts: Option<&[f64]>) -> f64 {
+    let mut num = 0.0;
+    let mut den = 0.0;
+    for i in 0..t.len() {
+        let c = counts.map_or(1.0, |c| c[i]);
+        if c == 0.0 {
+            continue;
+        }
+        let p = predict(kind, params, &Row::of(t, i));
+        match loss {
+            Loss::Mae => {
+                num += c * t.weight[i] * (t.win_pct[i] - p).abs();
+                den += c * t.weight[i];
+            }
+            Loss::Rmse => {
+                let e = t.win_pct[i] - p;
+                num += c * t.weight[i] * e * e;
+                den += c * t.weight[i];
+            }
+            Loss::Logloss => {
+                num += c * row_nll(t.wins[i], t.losses[i], p);
+                den += c * t.decisions[i];
+            }
+        }
+    }
+    match loss {
+        Loss::Rmse => (num / den).sqrt(),
+        _ => num / den,
+    }
+}
+
+/// Every metric at once (one pass over the rows).
+pub fn metrics(t: &Table, kind: ModelKind, params: &[f64], counts: Option<&[f64]>) -> Metrics {
+    metrics_with(t, counts, |i| predict(kind, params, &Row::of(t, i)))
+}
+
+/// Every metric of given predictions, one per row (pooled out-of-sample predictions).
+pub fn metrics_of_predictions(t: &Table, predictions: &[f64]) -> Metrics {
+    metrics_with(t, None, |i| predictions[i])
+}
+
+fn metrics_with(t: &Table, counts: Option<&[f64]>, prediction: impl Fn(usize) -> f64) -> Metrics {
+    let (mut abs, mut sq, mut wsum) = (0.0, 0.0, 0.0);
+    let (mut nll, mut games) = (0.0, 0.0);
+    let (mut bias, mut csum, mut max_abs) = (0.0, 0.0, 0.0f64);
+    let mut season_games = 0.0;
+    for i in 0..t.len() {
+        let c = counts.map_or(1.0, |c| c[i]);
+        if c == 0.0 {
+            continue;
+        }
+        let p = prediction(i);
+        let e = t.win_pct[i] - p;
+        let w = c * t.weight[i];
+        abs += w * e.abs();
+        sq += w * e * e;
+        wsum += w;
+        nll += c * row_nll(t.wins[i], t.losses[i], p);
+        games += c * t.decisions[i];
+        bias += w * e;
+        csum += c;
+        season_games += c * t.games[i];
+        max_abs = max_abs.max(e.abs());
+    }
+    let rmse = (sq / wsum).sqrt();
+    Metrics {
+        mae: abs / wsum,
+        rmse,
+        logloss: nll / games,
+        bias: bias / wsum,
+        max_abs,
+        rmse_wins: rmse * season_games / csum,
+    }
+}
+
+/// Expected win% of every row.
+pub fn predictions(t: &Table, kind: ModelKind, params: &[f64]) -> Vec<f64> {
+    (0..t.len()).map(|i| predict(kind, params, &Row::of(t, i))).collect()
+}

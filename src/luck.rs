@@ -1,0 +1,200 @@
+//! Expected wins, luck in wins and in binomial z, regression to the mean, rest-of-season projections.
+
+use statrs::distribution::{ContinuousCDF, Normal};
+
+use crate::data::{Table, TeamSeason};
+use crate::model::{Model, Row, predict};
+
+/// One team-season with a model's expectation beside its record.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TeamLine {
+    pub season: i32,
+    pub league: Option<String>,
+    pub team: String,
+    pub games: u64,
+    pub wins: u64,
+    pub losses: u64,
+    pub ties: u64,
+    pub runs_scored: f64,
+    pub runs_allowed: f64,
+    pub win_pct: f64,
+    pub expected_win_pct: f64,
+    /// Decisions × expected win%.
+    pub expected_wins: f64,
+    /// Wins (ties as half) minus expected wins.
+    pub luck_wins: f64,
+    /// The exponent this team-season received (`None` for the linear model).
+    pub exponent: Option<f64>,
+}
+
+/// Every row of a table under a model. `rows` and `t` must be the same rows in the same order.
+pub fn team_lines(rows: &[TeamSeason], t: &Table, model: &Model) -> Vec<TeamLine> {
+    rows.iter()
+        .enumerate()
+        .map(|(i, r)| {
+            let p = predict(model.kind, &model.params, &Row::of(t, i));
+            let expected = t.decisions[i] * p;
+            TeamLine {
+                season: r.season,
+                league: r.league.clone(),
+                team: r.team.clone(),
+                games: r.games,
+                wins: r.wins,
+                losses: r.losses,
+                ties: r.ties,
+                runs_scored: r.runs_scored,
+                runs_allowed: r.runs_allowed,
+                win_pct: t.win_pct[i],
+                expected_win_pct: p,
+                expected_wins: expected,
+                luck_wins: t.wins[i] - expected,
+                exponent: crate::model::exponent(model.kind, &model.params, t.ln_rpg[i], t.log10_rpg[i]),
+            }
+        })
+        .collect()
+}
+
+/// Luck as a binomial z-score: (W − n·p̂)/sqrt(n·p̂(1 − p̂)); `None` when p̂ is 0 or 1.
+pub fn luck_z(wins: f64, decisions: f64, p: f64) -> Option<f64> {
+    let var = decisions * p * (1.0 - p);
+    (var > 0.0).then(|| (wins - decisions * p) / var.sqrt())
+}
+
+/// Two-sided normal p-value of a z-score.
+pub fn two_sided_p(z: f64) -> f64 {
+    let normal = Normal::standard();
+    2.0 * normal.sf(z.abs())
+}
+
+/// Games of regression to .500 by the usual variance split of the table's win%:
+/// var_true = var(win%) − mean(0.25/n), k = 0.25/var_true. `None` when the observed spread is no
+/// larger than binomial noise alone.
+pub fn regression_games(t: &Table) -> Option<f64> {
+    let n = t.len();
+    if n < 2 {
+        return None;
+    }
+    let mean = t.win_pct.iter().sum::<f64>() / n as f64;
+    let var_obs = t.win_pct.iter().map(|y| (y - mean).powi(2)).sum::<f64>() / (n as f64 - 1.0);
+    let noise = t.decisions.iter().map(|d| 0.25 / d).sum::<f64>() / n as f64;
+    let var_true = var_obs - noise;
+    (var_true > 0.0).then(|| 0.25 / var_true)
+}
+
+/// Rest-of-season projection of one team.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Projection {
+    pub remaining: u64,
+    /// Expected win% regressed toward .500 by k games: (n·p̂ + k/2)/(n + k).
+    pub regressed_win_pct: f64,
+    /// Wins so far (ties as half) + remaining × regressed win%.
+    pub projected_wins: f64,
+    /// 80% interval of final wins: wins so far + the 10% and 90% quantiles of a beta-binomial.
+    pub interval: (f64, f64),
+}
+
+/// Project final wins: the remaining games follow a beta-binomial whose beta has k/2 + n·p̂ and
+/// k/2 + n·(1 − p̂), i.e. a .500 prior worth k games updated by n games at the expected win%.
+pub fn project(wins: f64, decisions: f64, expected: f64, k: f64, season_games: u64, played: u64) -> Projection {
+    let remaining = season_games.saturating_sub(played);
+    let alpha = k / 2.0 + decisions * expected;
+    let beta = k / 2.0 + decisions * (1.0 - expected);
+    let p = alpha / (alpha + beta);
+    let lo = beta_binomial_quantile(remaining, alpha, beta, 0.1);
+    let hi = beta_binomial_quantile(remaining, alpha, beta, 0.9);
+    Projection {
+        remaining,
+        regressed_win_pct: p,
+        projected_wins: wins + remaining as f64 * p,
+        interval: (wins + lo as f64, wins + hi as f64),
+    }
+}
+
+/// The smallest j with P(X ≤ j) ≥ q for X ~ BetaBinomial(n, α, β) (the same convention as a
+/// discrete percent-point function).
+pub fn beta_binomial_quantile(n: u64, alpha: f64, beta: f64, q: f64) -> u64 {
+    use statrs::function::gamma::ln_gamma;
+    if n == 0 {
+        return 0;
+    }
+    let nf = n as f64;
+    let ln_beta = |a: f64, b: f64| ln_gamma(a) + ln_gamma(b) - ln_gamma(a + b);
+    let base = ln_gamma(nf + 1.0) - ln_beta(alpha, beta);
+    let mut cdf = 0.0;
+    for j in 0..=n {
+        let jf = j as f64;
+        let ln_pmf = base - ln_gamma(jf + 1.0) - ln_gamma(nf - jf + 1.0) + ln_beta(jf + alpha, nf - jf + beta);
+        cdf += ln_pmf.exp();
+        // A hair of slack so that rounding in the sum does not push a quantile one step up.
+        if cdf >= q - 1e-12 {
+            return j;
+        }
+    }
+    n
+}
+
+/// A team in the weekly report.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LuckLine {
+    pub line: TeamLine,
+    pub luck_z: Option<f64>,
+    pub luck_p: Option<f64>,
+    pub one_run: Option<(u64, u64)>,
+    pub projection: Option<Projection>,
+}
+
+/// |z| at or above this is called out in words.
+pub const NOTABLE_Z: f64 = 2.0;
+
+/// Build the weekly report's lines, sorted by luck in wins (most ahead of their scoring first; ties
+/// broken by season, league, team).
+pub fn luck_lines(
+    rows: &[TeamSeason],
+    t: &Table,
+    model: &Model,
+    regression: Option<(f64, u64)>,
+) -> Vec<LuckLine> {
+    let mut out: Vec<LuckLine> = team_lines(rows, t, model)
+        .into_iter()
+        .enumerate()
+        .map(|(i, line)| {
+            let z = luck_z(t.wins[i], t.decisions[i], line.expected_win_pct);
+            let projection = regression.map(|(k, season_games)| {
+                project(t.wins[i], t.decisions[i], line.expected_win_pct, k, season_games, rows[i].games)
+            });
+            LuckLine {
+                luck_z: z,
+                luck_p: z.map(two_sided_p),
+                one_run: rows[i].one_run,
+                projection,
+                line,
+            }
+        })
+        .collect();
+    out.sort_by(|a, b| {
+        b.line
+            .luck_wins
+            .total_cmp(&a.line.luck_wins)
+            .then_with(|| (a.line.season, &a.line.league, &a.line.team).cmp(&(b.line.season, &b.line.league, &b.line.team)))
+    });
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn z_of_an_even_team_at_expectation_is_zero() {
+        assert_eq!(luck_z(81.0, 162.0, 0.5), Some(0.0));
+        assert_eq!(luck_z(0.0, 10.0, 0.0), None);
+    }
+
+    #[test]
+    fn beta_binomial_with_one_trial_is_bernoulli() {
+        // BetaBinomial(1, a, b) is Bernoulli(a/(a+b)): with a = b the median is 0 (P(0) = 0.5 ≥ 0.5).
+        assert_eq!(beta_binomial_quantile(1, 3.0, 3.0, 0.5), 0);
+        assert_eq!(beta_binomial_quantile(1, 3.0, 3.0, 0.9), 1);
+        assert_eq!(beta_binomial_quantile(0, 3.0, 3.0, 0.9), 0);
+    }
+}

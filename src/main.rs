@@ -1,0 +1,25 @@
+//! The `runcal` binary: parse the command line, run one command, map errors to exit codes
+//! (0 success, 1 a check failed, 2 bad input or usage).
+
+use std::process::ExitCode;
+
+use clap::Parser;
+
+fn main() -> ExitCode {
+    let cli = match runcal::cli::Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            // Help and version are successes; anything else is a usage error (exit 2).
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    match runcal::run(cli) {
+        Ok(code) => ExitCode::from(code),
+        Err(e) => {
+            eprintln!("runcal: error: {e}");
+            ExitCode::from(2)
+        }
+    }
+}

@@ -1,0 +1,110 @@
+//! Writing results: stdout, or a file replaced atomically (temporary file in the same directory,
+//! then rename), never one of the command's own inputs.
+
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use crate::error::Error;
+
+fn same_file(a: &Path, b: &Path) -> bool {
+    match (a.canonicalize(), b.canonicalize()) {
+        (Ok(x), Ok(y)) => x == y,
+        _ => false,
+    }
+}
+
+/// Refuse to write over any input of the run.
+pub fn check_not_input(output: &str, inputs: &[&str]) -> Result<(), Error> {
+    let out = Path::new(output);
+    for input in inputs.iter().filter(|i| **i != "-") {
+        if same_file(out, Path::new(input)) {
+            return Err(Error::Usage(format!(
+                "refusing to write {output}: it is one of this run's input files"
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// Write `bytes` to `path` atomically: readers see the old file or the new one, never a part.
+pub fn write_atomic(path: &str, bytes: &[u8]) -> Result<(), Error> {
+    let target = PathBuf::from(path);
+    let dir = match target.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let wrap = |source: std::io::Error| Error::Write { file: path.to_string(), source };
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".runcal-")
+        .suffix(".tmp")
+        .tempfile_in(&dir)
+        .map_err(wrap)?;
+    tmp.write_all(bytes).map_err(wrap)?;
+    tmp.as_file().sync_all().map_err(wrap)?;
+    tmp.persist(&target).map_err(|e| wrap(e.error))?;
+    Ok(())
+}
+
+/// Send a rendered result to its destination.
+pub fn emit(output: Option<&str>, inputs: &[&str], bytes: &[u8]) -> Result<(), Error> {
+    match output {
+        Some(path) => {
+            check_not_input(path, inputs)?;
+            write_atomic(path, bytes)
+        }
+        None => {
+            let mut out = std::io::stdout().lock();
+            match out.write_all(bytes).and_then(|()| out.flush()) {
+                Ok(()) => Ok(()),
+                // A closed pipe (`runcal … | head`) is the reader's choice, not an error.
+                Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+                Err(source) => Err(Error::Write { file: "<stdout>".to_string(), source }),
+            }
+        }
+    }
+}
+
+/// Messages for stderr, filtered by -q and -v.
+#[derive(Debug, Clone, Copy)]
+pub struct Diagnostics {
+    pub quiet: bool,
+    pub verbose: bool,
+}
+
+impl Diagnostics {
+    pub fn warn(&self, msg: &str) {
+        if !self.quiet {
+            eprintln!("warning: {msg}");
+        }
+    }
+
+    pub fn note(&self, msg: &str) {
+        if !self.quiet {
+            eprintln!("note: {msg}");
+        }
+    }
+
+    pub fn debug(&self, msg: &str) {
+        if self.verbose && !self.quiet {
+            eprintln!("debug: {msg}");
+        }
+    }
+
+    /// Report what loading set aside: every rejected row (they are never dropped silently) and warnings.
+    pub fn dataset(&self, ds: &crate::data::Dataset) {
+        for r in &ds.rejected {
+            if !self.quiet {
+                eprintln!("skipped: {r}");
+            }
+        }
+        if !ds.rejected.is_empty() {
+            self.warn(&format!("{} rows rejected (--skip-invalid)", ds.rejected.len()));
+        }
+        for w in &ds.warnings {
+            self.warn(w);
+        }
+        if ds.filtered_out > 0 {
+            self.debug(&format!("{} rows outside --seasons/--league/--as-of", ds.filtered_out));
+        }
+    }
+}

@@ -1,0 +1,232 @@
+//! The saved calibration (`runcal.profile/1`): what `luck` and `check` apply to new data.
+
+use std::collections::BTreeMap;
+
+use serde::{Deserialize, Serialize};
+
+use crate::cli::InputArgs;
+use crate::data::{Dataset, Table, TeamSeason, TiePolicy, Weighting};
+use crate::error::{Error, ProfileError};
+use crate::fit::{Loss, ModelFit};
+use crate::model::{Model, ModelKind};
+
+pub const SCHEMA: &str = "runcal.profile/1";
+
+/// What the calibration was fitted on.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FittedOn {
+    pub files: Vec<String>,
+    /// First and last season.
+    pub seasons: [i32; 2],
+    pub rows: usize,
+    /// FNV-1a (64-bit) over the validated rows, independent of file layout.
+    pub fingerprint: String,
+}
+
+/// A saved calibration.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Profile {
+    pub schema: String,
+    pub runcal_version: String,
+    /// UTC, RFC 3339; `SOURCE_DATE_EPOCH` pins it for reproducible files.
+    pub created: String,
+    pub model: ModelKind,
+    pub params: BTreeMap<String, f64>,
+    pub loss: Loss,
+    pub ties: TiePolicy,
+    pub weight: Weighting,
+    pub std_errors: Option<BTreeMap<String, f64>>,
+    pub std_errors_binomial: Option<BTreeMap<String, f64>>,
+    pub dispersion: Option<f64>,
+    pub ci: Option<BTreeMap<String, [f64; 2]>>,
+    pub ci_level: Option<f64>,
+    pub metrics: crate::fit::Metrics,
+    pub fitted_on: FittedOn,
+    /// Runs per game (both teams) over the fitted data.
+    pub average_rpg: f64,
+    /// Median games per team-season in the fitted data.
+    pub season_games: u64,
+    pub runs_per_win: f64,
+    /// Games of regression to .500 (k) estimated on the fitted data, when it could be.
+    pub regression_games: Option<f64>,
+}
+
+fn named(names: &[&str], v: &[f64]) -> BTreeMap<String, f64> {
+    names.iter().map(|n| n.to_string()).zip(v.iter().copied()).collect()
+}
+
+/// FNV-1a over the rows' canonical text.
+pub fn fingerprint(rows: &[TeamSeason]) -> String {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for r in rows {
+        let line = format!(
+            "{}\u{1f}{}\u{1f}{}\u{1f}{}\u{1f}{}\u{1f}{}\u{1f}{}\u{1f}{}\u{1f}{}\n",
+            r.season,
+            r.league.as_deref().unwrap_or(""),
+            r.team,
+            r.wins,
+            r.losses,
+            r.ties,
+            r.runs_scored,
+            r.runs_allowed,
+            r.games
+        );
+        for b in line.bytes() {
+            h ^= u64::from(b);
+            h = h.wrapping_mul(0x0100_0000_01b3);
+        }
+    }
+    format!("fnv1a64:{h:016x}")
+}
+
+/// Current time as RFC 3339 UTC, or `SOURCE_DATE_EPOCH` when set.
+fn now_rfc3339() -> String {
+    let secs = std::env::var("SOURCE_DATE_EPOCH")
+        .ok()
+        .and_then(|s| s.trim().parse::<i64>().ok())
+        .unwrap_or_else(|| {
+            std::time::SystemTime::now()
+                .duration_since(std::time::UNIX_EPOCH)
+                .map_or(0, |d| d.as_secs() as i64)
+        });
+    format_utc(secs)
+}
+
+/// Seconds since the epoch as RFC 3339 UTC.
+fn format_utc(secs: i64) -> String {
+    let days = secs.div_euclid(86_400);
+    let rem = secs.rem_euclid(86_400);
+    // Civil date from days since 1970-01-01 (H. Hinnant's algorithm).
+    let z = days + 719_468;
+    let era = z.div_euclid(146_097);
+    let doe = z.rem_euclid(146_097);
+    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let day = doy - (153 * mp + 2) / 5 + 1;
+    let month = if mp < 10 { mp + 3 } else { mp - 9 };
+    let year = yoe + era * 400 + i64::from(month <= 2);
+    format!(
+        "{year:04}-{month:02}-{day:02}T{:02}:{:02}:{:02}Z",
+        rem / 3600,
+        rem % 3600 / 60,
+        rem % 60
+    )
+}
+
+impl Profile {
+    pub fn from_fit(f: &ModelFit, ds: &Dataset, t: &Table, input: &InputArgs, files: &[String]) -> Result<Profile, Error> {
+        let names = f.model.kind.param_names();
+        let mut lengths: Vec<u64> = ds.rows.iter().map(|r| r.games).collect();
+        lengths.sort_unstable();
+        let seasons = ds.seasons();
+        Ok(Profile {
+            schema: SCHEMA.to_string(),
+            runcal_version: env!("CARGO_PKG_VERSION").to_string(),
+            created: now_rfc3339(),
+            model: f.model.kind,
+            params: named(names, &f.model.params),
+            loss: f.loss,
+            ties: input.tie_policy(),
+            weight: input.weighting(),
+            std_errors: f.std_errors.as_ref().map(|s| named(names, &s.corrected)),
+            std_errors_binomial: f.std_errors.as_ref().map(|s| named(names, &s.binomial)),
+            dispersion: f.std_errors.as_ref().map(|s| s.dispersion),
+            ci: f.intervals.as_ref().map(|iv| {
+                names.iter().map(|n| n.to_string()).zip(iv.params.iter().map(|&(a, b)| [a, b])).collect()
+            }),
+            ci_level: f.intervals.as_ref().map(|iv| iv.level),
+            metrics: f.metrics,
+            fitted_on: FittedOn {
+                files: files.to_vec(),
+                seasons: [*seasons.first().unwrap_or(&0), *seasons.last().unwrap_or(&0)],
+                rows: ds.rows.len(),
+                fingerprint: fingerprint(&ds.rows),
+            },
+            average_rpg: t.average_rpg(),
+            season_games: lengths.get(lengths.len() / 2).copied().unwrap_or(0),
+            runs_per_win: f.runs_per_win,
+            regression_games: crate::luck::regression_games(t),
+        })
+    }
+
+    pub fn save(&self, path: &str) -> Result<(), Error> {
+        let mut text = serde_json::to_string_pretty(self).map_err(|e| Error::Usage(e.to_string()))?;
+        text.push('\n');
+        crate::output::write_atomic(path, text.as_bytes())
+    }
+
+    pub fn load(path: &str) -> Result<Profile, ProfileError> {
+        let text = std::fs::read_to_string(path).map_err(|source| ProfileError::Io { file: path.to_string(), source })?;
+        let value: serde_json::Value = serde_json::from_str(&text).map_err(|e| ProfileError::Invalid {
+            file: path.to_string(),
+            reason: format!("not valid JSON ({e})"),
+        })?;
+        let schema = value.get("schema").and_then(|s| s.as_str()).ok_or_else(|| ProfileError::Invalid {
+            file: path.to_string(),
+            reason: "no \"schema\" field".to_string(),
+        })?;
+        if schema != SCHEMA {
+            return Err(ProfileError::Version {
+                file: path.to_string(),
+                found: schema.to_string(),
+                expected: SCHEMA.to_string(),
+            });
+        }
+        let p: Profile = serde_json::from_value(value).map_err(|e| ProfileError::Invalid {
+            file: path.to_string(),
+            reason: e.to_string(),
+        })?;
+        p.model_checked(path)?;
+        Ok(p)
+    }
+
+    fn model_checked(&self, path: &str) -> Result<Model, ProfileError> {
+        let params = self
+            .model
+            .param_names()
+            .iter()
+            .map(|n| {
+                self.params.get(*n).copied().filter(|v| v.is_finite()).ok_or_else(|| ProfileError::Invalid {
+                    file: path.to_string(),
+                    reason: format!("model {} needs a finite parameter \"{n}\"", self.model),
+                })
+            })
+            .collect::<Result<Vec<f64>, _>>()?;
+        Ok(Model::new(self.model, params))
+    }
+
+    /// The calibrated model.
+    pub fn model(&self) -> Model {
+        let params = self.model.param_names().iter().map(|n| self.params.get(*n).copied().unwrap_or(f64::NAN)).collect();
+        Model::new(self.model, params)
+    }
+
+    /// Standard error of each parameter, in model order: the saved one, else the interval's
+    /// half-width over the normal quantile of its level.
+    pub fn std_error_of(&self, name: &str) -> Option<f64> {
+        if let Some(se) = self.std_errors.as_ref().and_then(|m| m.get(name)) {
+            return Some(*se);
+        }
+        let (ci, level) = (self.ci.as_ref()?.get(name)?, self.ci_level?);
+        let z = statrs::distribution::ContinuousCDF::inverse_cdf(
+            &statrs::distribution::Normal::standard(),
+            0.5 + level / 2.0,
+        );
+        Some((ci[1] - ci[0]) / (2.0 * z))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn epoch_formats_as_utc() {
+        // GNU date: `date -u -d @1796083200` prints Tue Dec 1 00:00:00 UTC 2026.
+        assert_eq!(format_utc(1_796_083_200), "2026-12-01T00:00:00Z");
+        assert_eq!(format_utc(0), "1970-01-01T00:00:00Z");
+        // `date -u -d @951825599`: Tue Feb 29 11:59:59 UTC 2000 (a leap day).
+        assert_eq!(format_utc(951_825_599), "2000-02-29T11:59:59Z");
+    }
+}

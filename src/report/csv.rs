@@ -1,0 +1,151 @@
+//! CSV printers. Text cells that a spreadsheet would run as a formula are neutralised.
+
+use std::borrow::Cow;
+
+use super::FitReport;
+use crate::error::Error;
+
+/// Prefix a text cell that starts like a formula (`=`, `+`, `-`, `@`, tab, CR) with a quote, so that a
+/// spreadsheet shows it as text (OWASP's advice for CSV injection).
+pub fn safe(text: &str) -> Cow<'_, str> {
+    match text.chars().next() {
+        Some('=' | '+' | '-' | '@' | '\t' | '\r') => Cow::Owned(format!("'{text}")),
+        _ => Cow::Borrowed(text),
+    }
+}
+
+/// A number cell; empty for non-finite or absent values.
+pub fn cell(v: Option<f64>) -> String {
+    match v {
+        Some(x) if x.is_finite() => format!("{x}"),
+        _ => String::new(),
+    }
+}
+
+pub fn finish(w: csv::Writer<Vec<u8>>) -> Result<Vec<u8>, Error> {
+    w.into_inner().map_err(|e| Error::Usage(format!("csv output: {e}")))
+}
+
+pub fn write_err(e: csv::Error) -> Error {
+    Error::Usage(format!("csv output: {e}"))
+}
+
+pub fn fit(r: &FitReport) -> Result<Vec<u8>, Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record([
+        "season", "league", "team", "games", "wins", "losses", "ties", "runs_scored", "runs_allowed", "win_pct",
+        "model", "exponent", "expected_win_pct", "expected_wins", "luck_wins",
+    ])
+    .map_err(write_err)?;
+    let model = r.primary.as_ref().map(|m| m.kind.name()).unwrap_or_default();
+    for t in &r.teams {
+        w.write_record([
+            t.season.to_string(),
+            safe(t.league.as_deref().unwrap_or_default()).into_owned(),
+            safe(&t.team).into_owned(),
+            t.games.to_string(),
+            t.wins.to_string(),
+            t.losses.to_string(),
+            t.ties.to_string(),
+            cell(Some(t.runs_scored)),
+            cell(Some(t.runs_allowed)),
+            cell(Some(t.win_pct)),
+            model.to_string(),
+            cell(t.exponent),
+            cell(Some(t.expected_win_pct)),
+            cell(Some(t.expected_wins)),
+            cell(Some(t.luck_wins)),
+        ])
+        .map_err(write_err)?;
+    }
+    finish(w)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn formula_like_text_is_quoted() {
+        assert_eq!(safe("=HYPERLINK(\"x\")"), "'=HYPERLINK(\"x\")");
+        assert_eq!(safe("+1"), "'+1");
+        assert_eq!(safe("-Team"), "'-Team");
+        assert_eq!(safe("@SUM"), "'@SUM");
+        assert_eq!(safe("Harbor Gulls"), "Harbor Gulls");
+    }
+}
+
+pub fn luck(r: &super::LuckReport) -> Result<Vec<u8>, Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record([
+        "season", "league", "team", "games", "wins", "losses", "ties", "runs_scored", "runs_allowed", "win_pct",
+        "expected_win_pct", "expected_wins", "luck_wins", "luck_z", "luck_p", "one_run_wins", "one_run_losses",
+        "remaining_games", "projected_wins", "projected_low_80", "projected_high_80",
+    ])
+    .map_err(write_err)?;
+    let count = |v: Option<u64>| v.map(|x| x.to_string()).unwrap_or_default();
+    for l in &r.teams {
+        let t = &l.line;
+        let p = l.projection.as_ref();
+        w.write_record([
+            t.season.to_string(),
+            safe(t.league.as_deref().unwrap_or_default()).into_owned(),
+            safe(&t.team).into_owned(),
+            t.games.to_string(),
+            t.wins.to_string(),
+            t.losses.to_string(),
+            t.ties.to_string(),
+            cell(Some(t.runs_scored)),
+            cell(Some(t.runs_allowed)),
+            cell(Some(t.win_pct)),
+            cell(Some(t.expected_win_pct)),
+            cell(Some(t.expected_wins)),
+            cell(Some(t.luck_wins)),
+            cell(l.luck_z),
+            cell(l.luck_p),
+            count(l.one_run.map(|o| o.0)),
+            count(l.one_run.map(|o| o.1)),
+            count(p.map(|p| p.remaining)),
+            cell(p.map(|p| p.projected_wins)),
+            cell(p.map(|p| p.interval.0)),
+            cell(p.map(|p| p.interval.1)),
+        ])
+        .map_err(write_err)?;
+    }
+    finish(w)
+}
+
+pub fn backtest(r: &super::BacktestReport) -> Result<Vec<u8>, Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record(["rank", "model", "fitted", "mae", "rmse", "logloss", "folds"]).map_err(write_err)?;
+    for (i, s) in r.scores.iter().enumerate() {
+        let fitted = matches!(s.candidate, crate::fit::backtest::Candidate::Fit(_));
+        w.write_record([
+            (i + 1).to_string(),
+            s.candidate.label(),
+            fitted.to_string(),
+            cell(Some(s.metrics.mae)),
+            cell(Some(s.metrics.rmse)),
+            cell(Some(s.metrics.logloss)),
+            s.folds.len().to_string(),
+        ])
+        .map_err(write_err)?;
+    }
+    finish(w)
+}
+
+pub fn check(r: &super::CheckReport) -> Result<Vec<u8>, Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record(["rule", "threshold", "value", "passed", "detail"]).map_err(write_err)?;
+    for x in &r.rules {
+        w.write_record([
+            x.rule.clone(),
+            cell(Some(x.threshold)),
+            cell(Some(x.value)),
+            x.passed.to_string(),
+            safe(&x.detail).into_owned(),
+        ])
+        .map_err(write_err)?;
+    }
+    finish(w)
+}

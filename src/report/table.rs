@@ -1,0 +1,372 @@
+//! Human-readable tables (comfy-table). Layout only; every number arrives computed.
+
+use comfy_table::{CellAlignment, Table, presets};
+
+use super::{FitReport, TeamLine, num, pct, record, signed};
+use crate::fit::ModelFit;
+
+/// A table in the house style; numeric columns (all but the first `text_cols`) right-aligned.
+pub fn new_table(header: &[&str], text_cols: usize) -> Table {
+    let mut t = Table::new();
+    t.load_style(presets::UTF8_FULL_CONDENSED.with_rounded_corners())
+        .set_header(header.iter().copied());
+    for (i, col) in t.column_iter_mut().enumerate() {
+        if i >= text_cols {
+            col.set_cell_alignment(CellAlignment::Right);
+        }
+    }
+    t
+}
+
+/// A model and its values, short: `pythagorean, exponent 1.9273`.
+pub fn model_label(m: &crate::model::Model) -> String {
+    let p: Vec<String> = m.kind.param_names().iter().zip(&m.params).map(|(n, v)| format!("{n} {v:.4}")).collect();
+    format!("{}, {}", m.kind, p.join(", "))
+}
+
+/// Parameter values as `exponent 1.9273`.
+pub fn params(f: &ModelFit) -> String {
+    f.model
+        .kind
+        .param_names()
+        .iter()
+        .zip(&f.model.params)
+        .map(|(n, v)| format!("{n} {v:.4}"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+fn uncertainty(f: &ModelFit) -> Vec<String> {
+    let names = f.model.kind.param_names();
+    let mut lines = Vec::new();
+    for (i, name) in names.iter().enumerate() {
+        let mut parts = Vec::new();
+        if let Some(se) = &f.std_errors {
+            parts.push(format!(
+                "std. error {:.4} (quasi-binomial; binomial {:.4}, dispersion {:.3})",
+                se.corrected[i], se.binomial[i], se.dispersion
+            ));
+        }
+        if let Some(iv) = &f.intervals {
+            let (lo, hi) = iv.params[i];
+            parts.push(format!(
+                "{:.0}% bootstrap interval [{lo:.4}, {hi:.4}] from {} resamples",
+                iv.level * 100.0,
+                iv.resamples
+            ));
+        }
+        if !parts.is_empty() {
+            lines.push(format!("  {} {name} = {:.4}: {}", f.model.kind, f.model.params[i], parts.join("; ")));
+        }
+    }
+    lines
+}
+
+fn exponent_range(f: &ModelFit) -> String {
+    match (f.model.kind, f.exponent_range) {
+        (crate::model::ModelKind::Pythagorean, _) | (_, None) => "-".to_string(),
+        (_, Some((lo, hi))) => format!("{lo:.2}–{hi:.2}"),
+    }
+}
+
+pub fn fit(r: &FitReport) -> String {
+    let mut out = String::new();
+    let seasons = r.seasons.map(|(a, b)| if a == b { format!(", season {a}") } else { format!(", seasons {a}–{b}") }).unwrap_or_default();
+    out.push_str(&format!(
+        "runcal fit: {} team-seasons used, {} rejected{seasons}; ranked by {}\n",
+        r.rows_used,
+        r.rows_rejected,
+        r.loss.name()
+    ));
+    if r.grouped {
+        out.push_str(&grouped(r));
+    } else {
+        out.push_str(&comparison(r));
+    }
+    for f in r.fits.iter().filter(|f| f.fitted) {
+        for line in uncertainty(f) {
+            out.push_str(&line);
+            out.push('\n');
+        }
+        if !f.converged {
+            out.push_str(&format!("  warning: {} did not report convergence after {} iterations\n", f.model.kind, f.iterations));
+        }
+    }
+    if let Some(model) = &r.primary
+        && !r.teams.is_empty()
+        && r.top > 0
+    {
+        out.push_str(&performers(&r.teams, r.top, &model_label(model)));
+    }
+    out
+}
+
+fn comparison(r: &FitReport) -> String {
+    let loss = r.loss.name();
+    let header = [
+        "rank", "model", "parameters", "status", "params fitted", "logloss", "mae", "rmse", "rmse (wins)", "bias",
+        "runs/win", "exponent range",
+    ];
+    let mut t = new_table(&header, 4);
+    let best = r.fits.iter().map(|f| f.loss_value()).fold(f64::INFINITY, f64::min);
+    let mut ranked: Vec<&ModelFit> = r.fits.iter().collect();
+    ranked.sort_by(|a, b| a.loss_value().total_cmp(&b.loss_value()));
+    for (i, f) in ranked.iter().enumerate() {
+        let status = if f.fitted { "fitted".to_string() } else { "reference".to_string() };
+        let k = if f.fitted { f.model.params.len().to_string() } else { "0".to_string() };
+        t.add_row(vec![
+            (i + 1).to_string(),
+            f.model.kind.to_string(),
+            params(f),
+            status,
+            k,
+            num(f.metrics.logloss, 6),
+            num(f.metrics.mae, 5),
+            num(f.metrics.rmse, 5),
+            num(f.metrics.rmse_wins, 2),
+            signed(f.metrics.bias, 5),
+            num(f.runs_per_win, 2),
+            exponent_range(f),
+        ]);
+    }
+    let mut s = t.to_string();
+    s.push('\n');
+    if ranked.len() > 1 {
+        let first = ranked[0];
+        let second = ranked[1];
+        s.push_str(&format!(
+            "best by {loss}: {} ({}), ahead of {} ({}) by {:.2e}\n",
+            first.model.kind,
+            params(first),
+            second.model.kind,
+            params(second),
+            second.loss_value() - best
+        ));
+    }
+    s
+}
+
+fn grouped(r: &FitReport) -> String {
+    let header = ["group", "model", "parameters", "team-seasons", "logloss", "mae", "rmse", "runs/win", "note"];
+    let mut t = new_table(&header, 3);
+    let mut rows: Vec<(String, Vec<String>)> = Vec::new();
+    for f in &r.fits {
+        let g = f.group.as_ref().map(ToString::to_string).unwrap_or_else(|| "all".into());
+        let note = if f.converged { String::new() } else { "not converged".to_string() };
+        rows.push((
+            g.clone(),
+            vec![
+                g,
+                f.model.kind.to_string(),
+                params(f),
+                f.rows.to_string(),
+                num(f.metrics.logloss, 6),
+                num(f.metrics.mae, 5),
+                num(f.metrics.rmse, 5),
+                num(f.runs_per_win, 2),
+                note,
+            ],
+        ));
+    }
+    for (g, n) in &r.too_small {
+        let name = g.to_string();
+        rows.push((
+            name.clone(),
+            vec![name, "-".into(), "-".into(), n.to_string(), "-".into(), "-".into(), "-".into(), "-".into(), "too small to fit".into()],
+        ));
+    }
+    rows.sort_by(|a, b| a.0.cmp(&b.0));
+    for (_, row) in rows {
+        t.add_row(row);
+    }
+    let mut s = t.to_string();
+    s.push('\n');
+    s
+}
+
+/// The largest over- and under-performers against a model.
+pub fn performers(teams: &[TeamLine], top: usize, model: &str) -> String {
+    let mut sorted: Vec<&TeamLine> = teams.iter().collect();
+    sorted.sort_by(|a, b| {
+        b.luck_wins
+            .total_cmp(&a.luck_wins)
+            .then_with(|| (a.season, &a.league, &a.team).cmp(&(b.season, &b.league, &b.team)))
+    });
+    let n = top.min(sorted.len());
+    let mut s = String::new();
+    let header = ["season", "league", "team", "record", "win%", "expected win%", "expected wins", "wins over expected"];
+    for (title, slice) in [
+        ("Most wins above their scoring", sorted[..n].to_vec()),
+        ("Most wins below their scoring", sorted.iter().rev().take(n).copied().collect::<Vec<_>>()),
+    ] {
+        let mut t = new_table(&header, 3);
+        for line in slice {
+            t.add_row(vec![
+                line.season.to_string(),
+                line.league.clone().unwrap_or_else(|| "-".into()),
+                line.team.clone(),
+                record(line.wins, line.losses, line.ties),
+                pct(line.win_pct),
+                pct(line.expected_win_pct),
+                num(line.expected_wins, 1),
+                signed(line.luck_wins, 1),
+            ]);
+        }
+        s.push_str(&format!("\n{title} ({model}):\n{t}\n"));
+    }
+    s
+}
+
+/// The weekly report.
+pub fn luck(r: &super::LuckReport) -> String {
+    let mut out = String::new();
+    let source = match &r.source {
+        super::ModelSource::Profile(p) => format!("calibration from {p}"),
+        super::ModelSource::Fitted => "fitted on these data (no --profile)".to_string(),
+    };
+    let params: Vec<String> = r
+        .model
+        .kind
+        .param_names()
+        .iter()
+        .zip(&r.model.params)
+        .map(|(n, v)| format!("{n} {v:.4}"))
+        .collect();
+    out.push_str(&format!(
+        "runcal luck: {} teams, {} rejected; {} {} ({source})",
+        r.rows_used,
+        r.rows_rejected,
+        r.model.kind,
+        params.join(", ")
+    ));
+    if let Some(d) = r.as_of {
+        out.push_str(&format!("; games through {d}"));
+    }
+    out.push('\n');
+    let with_one_run = r.teams.iter().any(|l| l.one_run.is_some());
+    let with_projection = r.teams.iter().any(|l| l.projection.is_some());
+    let mut header = vec![
+        "season", "league", "team", "games", "record", "runs", "runs allowed", "win%", "expected", "expected wins",
+        "wins over expected", "z", "p", "signal",
+    ];
+    if with_one_run {
+        header.push("one-run record");
+    }
+    if with_projection {
+        header.extend(["projected wins", "80% range"]);
+    }
+    let mut t = new_table(&header, 3);
+    for l in &r.teams {
+        let line = &l.line;
+        let signal = match l.luck_z {
+            Some(z) if z >= crate::luck::NOTABLE_Z => "well ahead of scoring",
+            Some(z) if z <= -crate::luck::NOTABLE_Z => "well behind scoring",
+            _ => "",
+        };
+        let mut row = vec![
+            line.season.to_string(),
+            line.league.clone().unwrap_or_else(|| "-".into()),
+            line.team.clone(),
+            line.games.to_string(),
+            record(line.wins, line.losses, line.ties),
+            num(line.runs_scored, 0),
+            num(line.runs_allowed, 0),
+            pct(line.win_pct),
+            pct(line.expected_win_pct),
+            num(line.expected_wins, 1),
+            signed(line.luck_wins, 1),
+            l.luck_z.map_or("-".into(), |z| signed(z, 2)),
+            l.luck_p.map_or("-".into(), |p| num(p, 3)),
+            signal.to_string(),
+        ];
+        if with_one_run {
+            row.push(l.one_run.map_or("-".into(), |(w, lo)| record(w, lo, 0)));
+        }
+        if with_projection {
+            match &l.projection {
+                Some(p) => {
+                    row.push(num(p.projected_wins, 1));
+                    row.push(format!("{:.0}–{:.0}", p.interval.0, p.interval.1));
+                }
+                None => row.extend(["-".to_string(), "-".to_string()]),
+            }
+        }
+        t.add_row(row);
+    }
+    out.push_str(&t.to_string());
+    out.push('\n');
+    if let (Some(g), Some(k)) = (r.season_games, r.regression_games) {
+        out.push_str(&format!(
+            "projection: {g}-game season; expected win% regressed toward .500 by {k:.1} games; 80% range from a beta-binomial\n"
+        ));
+    }
+    out.push_str(&format!(
+        "signal: |z| >= {} (binomial z of wins over expected). {}\n",
+        crate::luck::NOTABLE_Z,
+        crate::cli::CAUTION
+    ));
+    out
+}
+
+pub fn backtest(r: &super::BacktestReport) -> String {
+    let mut out = format!(
+        "runcal backtest: {} team-seasons, {} rejected; scheme {}; ranked by out-of-sample {}\n",
+        r.rows_used,
+        r.rows_rejected,
+        r.scheme.name(),
+        r.loss.name()
+    );
+    let mut t = new_table(&["rank", "model", "status", "held-out seasons", "logloss", "mae", "rmse"], 3);
+    for (i, s) in r.scores.iter().enumerate() {
+        let status = match s.candidate {
+            crate::fit::backtest::Candidate::Fit(_) => "refitted per fold",
+            crate::fit::backtest::Candidate::Fixed(_) => "reference",
+        };
+        t.add_row(vec![
+            (i + 1).to_string(),
+            s.candidate.label(),
+            status.to_string(),
+            s.folds.len().to_string(),
+            num(s.metrics.logloss, 6),
+            num(s.metrics.mae, 5),
+            num(s.metrics.rmse, 5),
+        ]);
+    }
+    out.push_str(&t.to_string());
+    out.push('\n');
+    if let (Some(a), Some(b)) = (r.scores.first(), r.scores.get(1)) {
+        out.push_str(&format!(
+            "best out of sample: {}, ahead of {} by {:.2e} in {}\n",
+            a.candidate.label(),
+            b.candidate.label(),
+            r.loss.of(&b.metrics) - r.loss.of(&a.metrics),
+            r.loss.name()
+        ));
+    }
+    out
+}
+
+pub fn check(r: &super::CheckReport) -> String {
+    let mut out = format!(
+        "runcal check: {} team-seasons ({} rejected) against {}\n",
+        r.rows_used, r.rows_rejected, r.profile
+    );
+    let mut t = new_table(&["rule", "threshold", "value", "result", "what was measured"], 1);
+    for x in &r.rules {
+        t.add_row(vec![
+            x.rule.clone(),
+            format!("{}", x.threshold),
+            num(x.value, 4),
+            if x.passed { "pass".to_string() } else { "FAIL".to_string() },
+            x.detail.clone(),
+        ]);
+    }
+    if let Some(col) = t.column_mut(4) {
+        col.set_cell_alignment(CellAlignment::Left);
+    }
+    out.push_str(&t.to_string());
+    out.push('\n');
+    out.push_str(&r.verdict);
+    out.push('\n');
+    out
+}

@@ -1,0 +1,281 @@
+//! Synthetic leagues with a known truth.
+//!
+//! Game scores are independent Weibull draws: S. J. Miller ("A derivation of the Pythagorean
+//! won-loss formula in baseball", Chance 20(1), 2007) shows that a team whose runs scored and allowed
+//! are independent Weibulls of shape γ wins RS^γ/(RS^γ+RA^γ) of its games. Team strength is an offence
+//! and a defence multiplier, redrawn every season.
+
+use rand::{RngExt, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use rand_distr::{Binomial, Distribution, Normal, Weibull};
+use statrs::function::gamma::gamma;
+
+use crate::data::gamelog::Date;
+use crate::model::Model;
+
+/// Names of the fictional league's clubs; larger leagues continue as "Club 21", "Club 22", ….
+const CLUBS: [&str; 20] = [
+    "Ashford Kestrels",
+    "Bramblebay Otters",
+    "Cobalt Creek Miners",
+    "Dunmore Lanterns",
+    "Eastwick Ferrymen",
+    "Fallowfield Foxes",
+    "Greystone Gulls",
+    "Harrowgate Hornets",
+    "Ironvale Rams",
+    "Juniper Falls Pilots",
+    "Kestrel Point Tides",
+    "Larkspur Lumberjacks",
+    "Millbrook Comets",
+    "Northmoor Stags",
+    "Oakhollow Owls",
+    "Pennywell Sparrows",
+    "Quarry Hill Masons",
+    "Riverbend Rafters",
+    "Saltmarsh Herons",
+    "Thornbury Badgers",
+];
+
+pub fn club_name(i: usize) -> String {
+    CLUBS.get(i).map_or_else(|| format!("Club {}", i + 1), |s| (*s).to_string())
+}
+
+/// What to simulate.
+#[derive(Debug, Clone)]
+pub struct Design {
+    pub teams: usize,
+    pub seasons: usize,
+    pub games: usize,
+    /// Weibull shape of every team's scores.
+    pub shape: f64,
+    /// Mean runs per team per game in an average matchup.
+    pub runs_per_game: f64,
+    /// Standard deviation of ln(offence) and ln(defence) multipliers.
+    pub talent_sd: f64,
+    pub first_season: i32,
+    pub league: String,
+    pub seed: u64,
+}
+
+impl Design {
+    pub fn validate(&self) -> Result<(), String> {
+        if self.teams < 2 || self.teams % 2 != 0 {
+            return Err(format!("--teams must be an even number of at least 2 (every team plays every round), got {}", self.teams));
+        }
+        if self.seasons == 0 || self.games == 0 {
+            return Err("--seasons and --games must be at least 1".to_string());
+        }
+        if !(self.shape.is_finite() && self.shape > 0.0) {
+            return Err(format!("--exponent (the Weibull shape) must be positive, got {}", self.shape));
+        }
+        if !(self.runs_per_game.is_finite() && self.runs_per_game > 0.0) {
+            return Err(format!("--runs-per-game must be positive, got {}", self.runs_per_game));
+        }
+        if !(self.talent_sd.is_finite() && self.talent_sd >= 0.0) {
+            return Err(format!("--talent-sd must be non-negative, got {}", self.talent_sd));
+        }
+        Ok(())
+    }
+}
+
+/// One simulated game.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Game {
+    pub season: i32,
+    pub date: Date,
+    pub home: usize,
+    pub away: usize,
+    pub home_score: u64,
+    pub away_score: u64,
+}
+
+/// The date `offset` days after 1 April of `year`.
+pub fn season_day(year: i32, offset: usize) -> Date {
+    let mut d = Date { year, month: 4, day: 1 };
+    for _ in 0..offset {
+        d = next_day(d);
+    }
+    d
+}
+
+fn next_day(d: Date) -> Date {
+    let last = match d.month {
+        4 | 6 | 9 | 11 => 30,
+        2 if (d.year % 4 == 0 && d.year % 100 != 0) || d.year % 400 == 0 => 29,
+        2 => 28,
+        _ => 31,
+    };
+    if d.day < last {
+        Date { day: d.day + 1, ..d }
+    } else if d.month < 12 {
+        Date { month: d.month + 1, day: 1, ..d }
+    } else {
+        Date { year: d.year + 1, month: 1, day: 1 }
+    }
+}
+
+/// Weibull-score games of a league, handed to `sink` in date order. Each round pairs every team once
+/// (a random matching, a coin for home field); runs are the scores rounded, and a tie after rounding
+/// goes to the side with the higher unrounded score, which gets one more run (an extra-innings run).
+pub fn games(design: &Design, mut sink: impl FnMut(&Game)) -> Result<(), String> {
+    design.validate()?;
+    let mut rng = ChaCha8Rng::seed_from_u64(design.seed);
+    let talent = Normal::new(0.0, design.talent_sd).map_err(|e| e.to_string())?;
+    // E[Weibull(λ, γ)] = λ·Γ(1 + 1/γ), so the scale that gives mean μ is μ/Γ(1 + 1/γ).
+    let scale_per_run = 1.0 / gamma(1.0 + 1.0 / design.shape);
+    let unit = Weibull::new(1.0, design.shape).map_err(|e| e.to_string())?;
+    let n = design.teams;
+    let mut order: Vec<usize> = (0..n).collect();
+    let mut date = season_day(design.first_season, 0);
+    for s in 0..design.seasons {
+        let season = design.first_season + s as i32;
+        let offence: Vec<f64> = (0..n).map(|_| talent.sample(&mut rng).exp()).collect();
+        let defence: Vec<f64> = (0..n).map(|_| talent.sample(&mut rng).exp()).collect();
+        for round in 0..design.games {
+            if round == 0 {
+                date = season_day(season, 0);
+            } else {
+                date = next_day(date);
+            }
+            // Fisher–Yates shuffle, then pair neighbours.
+            for i in (1..n).rev() {
+                let j = rng.random_range(0..=i);
+                order.swap(i, j);
+            }
+            for pair in order.chunks_exact(2) {
+                let (home, away) = if rng.random_bool(0.5) { (pair[0], pair[1]) } else { (pair[1], pair[0]) };
+                let mean_home = design.runs_per_game * offence[home] * defence[away];
+                let mean_away = design.runs_per_game * offence[away] * defence[home];
+                let x_home: f64 = mean_home * scale_per_run * unit.sample(&mut rng);
+                let x_away: f64 = mean_away * scale_per_run * unit.sample(&mut rng);
+                let mut home_score = x_home.round() as u64;
+                let mut away_score = x_away.round() as u64;
+                if home_score == away_score {
+                    if x_home >= x_away {
+                        home_score += 1;
+                    } else {
+                        away_score += 1;
+                    }
+                }
+                sink(&Game { season, date, home, away, home_score, away_score });
+            }
+        }
+    }
+    Ok(())
+}
+
+/// A simulated team-season.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SeasonRow {
+    pub season: i32,
+    pub team: usize,
+    pub games: u64,
+    pub wins: u64,
+    pub losses: u64,
+    pub runs_scored: u64,
+    pub runs_allowed: u64,
+}
+
+/// Team-season totals of a Weibull league.
+pub fn seasons(design: &Design) -> Result<Vec<SeasonRow>, String> {
+    let n = design.teams;
+    let mut rows: Vec<SeasonRow> = Vec::with_capacity(n * design.seasons);
+    for s in 0..design.seasons {
+        for team in 0..n {
+            rows.push(SeasonRow {
+                season: design.first_season + s as i32,
+                team,
+                games: 0,
+                wins: 0,
+                losses: 0,
+                runs_scored: 0,
+                runs_allowed: 0,
+            });
+        }
+    }
+    games(design, |g| {
+        let base = (g.season - design.first_season) as usize * n;
+        for (team, scored, allowed) in [(g.home, g.home_score, g.away_score), (g.away, g.away_score, g.home_score)] {
+            let r = &mut rows[base + team];
+            r.games += 1;
+            r.runs_scored += scored;
+            r.runs_allowed += allowed;
+            if scored > allowed {
+                r.wins += 1;
+            } else {
+                r.losses += 1;
+            }
+        }
+    })?;
+    Ok(rows)
+}
+
+/// Team-seasons whose expected win% is exactly a given model's: each season draws a run environment
+/// uniformly from `rpg_range` (both teams, per game), each team a run ratio, and wins are binomial.
+pub fn truth_seasons(design: &Design, truth: &Model, rpg_range: (f64, f64)) -> Result<Vec<SeasonRow>, String> {
+    if design.teams == 0 || design.seasons == 0 || design.games == 0 {
+        return Err("--teams, --seasons and --games must be at least 1".to_string());
+    }
+    if !(rpg_range.0 > 0.0 && rpg_range.1 >= rpg_range.0) {
+        return Err(format!("--rpg-range must be positive and ascending, got {}-{}", rpg_range.0, rpg_range.1));
+    }
+    let mut rng = ChaCha8Rng::seed_from_u64(design.seed);
+    let spread = Normal::new(0.0, 2.0 * design.talent_sd).map_err(|e| e.to_string())?;
+    let g = design.games as f64;
+    let mut rows = Vec::new();
+    for s in 0..design.seasons {
+        let rpg = if rpg_range.1 > rpg_range.0 { rng.random_range(rpg_range.0..rpg_range.1) } else { rpg_range.0 };
+        for team in 0..design.teams {
+            let ratio: f64 = spread.sample(&mut rng).exp();
+            let runs = g * rpg;
+            let rs = (runs * ratio / (1.0 + ratio)).round().max(1.0);
+            let ra = (runs / (1.0 + ratio)).round().max(1.0);
+            let p = truth.expected_win_pct(rs, ra, g).clamp(0.0, 1.0);
+            let wins = Binomial::new(design.games as u64, p).map_err(|e| e.to_string())?.sample(&mut rng);
+            rows.push(SeasonRow {
+                season: design.first_season + s as i32,
+                team,
+                games: design.games as u64,
+                wins,
+                losses: design.games as u64 - wins,
+                runs_scored: rs as u64,
+                runs_allowed: ra as u64,
+            });
+        }
+    }
+    Ok(rows)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn days_roll_over_months_and_years() {
+        assert_eq!(season_day(2026, 30).to_string(), "2026-05-01");
+        assert_eq!(season_day(2026, 275).to_string(), "2027-01-01");
+    }
+
+    #[test]
+    fn every_team_plays_every_round_and_totals_balance() {
+        let d = Design {
+            teams: 6,
+            seasons: 2,
+            games: 10,
+            shape: 1.8,
+            runs_per_game: 4.5,
+            talent_sd: 0.1,
+            first_season: 2001,
+            league: "Test".into(),
+            seed: 3,
+        };
+        let rows = seasons(&d).unwrap();
+        assert!(rows.iter().all(|r| r.games == 10 && r.wins + r.losses == 10));
+        let wins: u64 = rows.iter().map(|r| r.wins).sum();
+        assert_eq!(wins, 6 * 2 * 10 / 2, "every game has one winner");
+        let rs: u64 = rows.iter().map(|r| r.runs_scored).sum();
+        let ra: u64 = rows.iter().map(|r| r.runs_allowed).sum();
+        assert_eq!(rs, ra, "every run scored is a run allowed");
+    }
+}
