@@ -50,20 +50,26 @@ pub enum DataError {
     },
     #[error("{0}")]
     Rejected(Rejection),
-    #[error("{file}: no column for {role} (looked for headers {looked_for}); name it with --map {role}=HEADER")]
+    #[error(
+        "{file}: no column for {role} (looked for headers {looked_for}); name it with --map {role}=HEADER"
+    )]
     MissingRole {
         file: String,
         role: &'static str,
         looked_for: String,
     },
-    #[error("{file}: columns '{first}' and '{second}' both look like {role}; choose one with --map {role}=HEADER")]
+    #[error(
+        "{file}: columns '{first}' and '{second}' both look like {role}; choose one with --map {role}=HEADER"
+    )]
     AmbiguousRole {
         file: String,
         role: &'static str,
         first: String,
         second: String,
     },
-    #[error("{file}: --map {role}={header}: the file has no header '{header}' (headers: {headers})")]
+    #[error(
+        "{file}: --map {role}={header}: the file has no header '{header}' (headers: {headers})"
+    )]
     MappedHeaderMissing {
         file: String,
         role: &'static str,
@@ -81,7 +87,9 @@ pub enum DataError {
     Empty { file: String },
     #[error("{what}: no rows left to use{hint}")]
     NoRows { what: String, hint: String },
-    #[error("{file}: more than {limit} rows; raise the limit with --max-rows if the file is genuine")]
+    #[error(
+        "{file}: more than {limit} rows; raise the limit with --max-rows if the file is genuine"
+    )]
     TooManyRows { file: String, limit: u64 },
     #[error("{0}")]
     Usage(String),

@@ -26,7 +26,12 @@ pub struct Bounds {
 
 /// Evaluate every rule. `scored` is the saved model's metrics on the new data, `refit` the same model
 /// fitted to the new data by the saved loss.
-pub fn evaluate(profile: &Profile, scored: &Metrics, refit: &ModelFit, bounds: &Bounds) -> Result<Vec<Rule>, String> {
+pub fn evaluate(
+    profile: &Profile,
+    scored: &Metrics,
+    refit: &ModelFit,
+    bounds: &Bounds,
+) -> Result<Vec<Rule>, String> {
     let mut rules = Vec::new();
     for (name, bound, value) in [
         ("max_mae", bounds.max_mae, scored.mae),

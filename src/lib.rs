@@ -41,7 +41,10 @@ pub fn run(cli: cli::Cli) -> Result<u8> {
             let mut out = Vec::new();
             clap_mangen::Man::new(cmd)
                 .render(&mut out)
-                .map_err(|source| Error::Write { file: "<stdout>".to_string(), source })?;
+                .map_err(|source| Error::Write {
+                    file: "<stdout>".to_string(),
+                    source,
+                })?;
             output::emit(None, &[], &out)?;
             Ok(0)
         }

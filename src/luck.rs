@@ -48,7 +48,12 @@ pub fn team_lines(rows: &[TeamSeason], t: &Table, model: &Model) -> Vec<TeamLine
                 expected_win_pct: p,
                 expected_wins: expected,
                 luck_wins: t.wins[i] - expected,
-                exponent: crate::model::exponent(model.kind, &model.params, t.ln_rpg[i], t.log10_rpg[i]),
+                exponent: crate::model::exponent(
+                    model.kind,
+                    &model.params,
+                    t.ln_rpg[i],
+                    t.log10_rpg[i],
+                ),
             }
         })
         .collect()
@@ -95,7 +100,14 @@ pub struct Projection {
 
 /// Project final wins: the remaining games follow a beta-binomial whose beta has k/2 + n·p̂ and
 /// k/2 + n·(1 − p̂), i.e. a .500 prior worth k games updated by n games at the expected win%.
-pub fn project(wins: f64, decisions: f64, expected: f64, k: f64, season_games: u64, played: u64) -> Projection {
+pub fn project(
+    wins: f64,
+    decisions: f64,
+    expected: f64,
+    k: f64,
+    season_games: u64,
+    played: u64,
+) -> Projection {
     let remaining = season_games.saturating_sub(played);
     let alpha = k / 2.0 + decisions * expected;
     let beta = k / 2.0 + decisions * (1.0 - expected);
@@ -123,7 +135,8 @@ pub fn beta_binomial_quantile(n: u64, alpha: f64, beta: f64, q: f64) -> u64 {
     let mut cdf = 0.0;
     for j in 0..=n {
         let jf = j as f64;
-        let ln_pmf = base - ln_gamma(jf + 1.0) - ln_gamma(nf - jf + 1.0) + ln_beta(jf + alpha, nf - jf + beta);
+        let ln_pmf = base - ln_gamma(jf + 1.0) - ln_gamma(nf - jf + 1.0)
+            + ln_beta(jf + alpha, nf - jf + beta);
         cdf += ln_pmf.exp();
         // A hair of slack so that rounding in the sum does not push a quantile one step up.
         if cdf >= q - 1e-12 {
@@ -160,7 +173,14 @@ pub fn luck_lines(
         .map(|(i, line)| {
             let z = luck_z(t.wins[i], t.decisions[i], line.expected_win_pct);
             let projection = regression.map(|(k, season_games)| {
-                project(t.wins[i], t.decisions[i], line.expected_win_pct, k, season_games, rows[i].games)
+                project(
+                    t.wins[i],
+                    t.decisions[i],
+                    line.expected_win_pct,
+                    k,
+                    season_games,
+                    rows[i].games,
+                )
             });
             LuckLine {
                 luck_z: z,
@@ -172,10 +192,13 @@ pub fn luck_lines(
         })
         .collect();
     out.sort_by(|a, b| {
-        b.line
-            .luck_wins
-            .total_cmp(&a.line.luck_wins)
-            .then_with(|| (a.line.season, &a.line.league, &a.line.team).cmp(&(b.line.season, &b.line.league, &b.line.team)))
+        b.line.luck_wins.total_cmp(&a.line.luck_wins).then_with(|| {
+            (a.line.season, &a.line.league, &a.line.team).cmp(&(
+                b.line.season,
+                &b.line.league,
+                &b.line.team,
+            ))
+        })
     });
     out
 }

@@ -33,7 +33,10 @@ pub fn write_atomic(path: &str, bytes: &[u8]) -> Result<(), Error> {
         Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
         _ => PathBuf::from("."),
     };
-    let wrap = |source: std::io::Error| Error::Write { file: path.to_string(), source };
+    let wrap = |source: std::io::Error| Error::Write {
+        file: path.to_string(),
+        source,
+    };
     let mut tmp = tempfile::Builder::new()
         .prefix(".runcal-")
         .suffix(".tmp")
@@ -58,7 +61,10 @@ pub fn emit(output: Option<&str>, inputs: &[&str], bytes: &[u8]) -> Result<(), E
                 Ok(()) => Ok(()),
                 // A closed pipe (`runcal … | head`) is the reader's choice, not an error.
                 Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-                Err(source) => Err(Error::Write { file: "<stdout>".to_string(), source }),
+                Err(source) => Err(Error::Write {
+                    file: "<stdout>".to_string(),
+                    source,
+                }),
             }
         }
     }
@@ -98,13 +104,19 @@ impl Diagnostics {
             }
         }
         if !ds.rejected.is_empty() {
-            self.warn(&format!("{} rows rejected (--skip-invalid)", ds.rejected.len()));
+            self.warn(&format!(
+                "{} rows rejected (--skip-invalid)",
+                ds.rejected.len()
+            ));
         }
         for w in &ds.warnings {
             self.warn(w);
         }
         if ds.filtered_out > 0 {
-            self.debug(&format!("{} rows outside --seasons/--league/--as-of", ds.filtered_out));
+            self.debug(&format!(
+                "{} rows outside --seasons/--league/--as-of",
+                ds.filtered_out
+            ));
         }
     }
 }

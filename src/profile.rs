@@ -52,7 +52,11 @@ pub struct Profile {
 }
 
 fn named(names: &[&str], v: &[f64]) -> BTreeMap<String, f64> {
-    names.iter().map(|n| n.to_string()).zip(v.iter().copied()).collect()
+    names
+        .iter()
+        .map(|n| n.to_string())
+        .zip(v.iter().copied())
+        .collect()
 }
 
 /// FNV-1a over the rows' canonical text.
@@ -115,7 +119,13 @@ fn format_utc(secs: i64) -> String {
 }
 
 impl Profile {
-    pub fn from_fit(f: &ModelFit, ds: &Dataset, t: &Table, input: &InputArgs, files: &[String]) -> Result<Profile, Error> {
+    pub fn from_fit(
+        f: &ModelFit,
+        ds: &Dataset,
+        t: &Table,
+        input: &InputArgs,
+        files: &[String],
+    ) -> Result<Profile, Error> {
         let names = f.model.kind.param_names();
         let mut lengths: Vec<u64> = ds.rows.iter().map(|r| r.games).collect();
         lengths.sort_unstable();
@@ -133,13 +143,20 @@ impl Profile {
             std_errors_binomial: f.std_errors.as_ref().map(|s| named(names, &s.binomial)),
             dispersion: f.std_errors.as_ref().map(|s| s.dispersion),
             ci: f.intervals.as_ref().map(|iv| {
-                names.iter().map(|n| n.to_string()).zip(iv.params.iter().map(|&(a, b)| [a, b])).collect()
+                names
+                    .iter()
+                    .map(|n| n.to_string())
+                    .zip(iv.params.iter().map(|&(a, b)| [a, b]))
+                    .collect()
             }),
             ci_level: f.intervals.as_ref().map(|iv| iv.level),
             metrics: f.metrics,
             fitted_on: FittedOn {
                 files: files.to_vec(),
-                seasons: [*seasons.first().unwrap_or(&0), *seasons.last().unwrap_or(&0)],
+                seasons: [
+                    *seasons.first().unwrap_or(&0),
+                    *seasons.last().unwrap_or(&0),
+                ],
                 rows: ds.rows.len(),
                 fingerprint: fingerprint(&ds.rows),
             },
@@ -151,21 +168,29 @@ impl Profile {
     }
 
     pub fn save(&self, path: &str) -> Result<(), Error> {
-        let mut text = serde_json::to_string_pretty(self).map_err(|e| Error::Usage(e.to_string()))?;
+        let mut text =
+            serde_json::to_string_pretty(self).map_err(|e| Error::Usage(e.to_string()))?;
         text.push('\n');
         crate::output::write_atomic(path, text.as_bytes())
     }
 
     pub fn load(path: &str) -> Result<Profile, ProfileError> {
-        let text = std::fs::read_to_string(path).map_err(|source| ProfileError::Io { file: path.to_string(), source })?;
-        let value: serde_json::Value = serde_json::from_str(&text).map_err(|e| ProfileError::Invalid {
+        let text = std::fs::read_to_string(path).map_err(|source| ProfileError::Io {
             file: path.to_string(),
-            reason: format!("not valid JSON ({e})"),
+            source,
         })?;
-        let schema = value.get("schema").and_then(|s| s.as_str()).ok_or_else(|| ProfileError::Invalid {
-            file: path.to_string(),
-            reason: "no \"schema\" field".to_string(),
-        })?;
+        let value: serde_json::Value =
+            serde_json::from_str(&text).map_err(|e| ProfileError::Invalid {
+                file: path.to_string(),
+                reason: format!("not valid JSON ({e})"),
+            })?;
+        let schema = value
+            .get("schema")
+            .and_then(|s| s.as_str())
+            .ok_or_else(|| ProfileError::Invalid {
+                file: path.to_string(),
+                reason: "no \"schema\" field".to_string(),
+            })?;
         if schema != SCHEMA {
             return Err(ProfileError::Version {
                 file: path.to_string(),
@@ -187,10 +212,14 @@ impl Profile {
             .param_names()
             .iter()
             .map(|n| {
-                self.params.get(*n).copied().filter(|v| v.is_finite()).ok_or_else(|| ProfileError::Invalid {
-                    file: path.to_string(),
-                    reason: format!("model {} needs a finite parameter \"{n}\"", self.model),
-                })
+                self.params
+                    .get(*n)
+                    .copied()
+                    .filter(|v| v.is_finite())
+                    .ok_or_else(|| ProfileError::Invalid {
+                        file: path.to_string(),
+                        reason: format!("model {} needs a finite parameter \"{n}\"", self.model),
+                    })
             })
             .collect::<Result<Vec<f64>, _>>()?;
         Ok(Model::new(self.model, params))
@@ -198,7 +227,12 @@ impl Profile {
 
     /// The calibrated model.
     pub fn model(&self) -> Model {
-        let params = self.model.param_names().iter().map(|n| self.params.get(*n).copied().unwrap_or(f64::NAN)).collect();
+        let params = self
+            .model
+            .param_names()
+            .iter()
+            .map(|n| self.params.get(*n).copied().unwrap_or(f64::NAN))
+            .collect();
         Model::new(self.model, params)
     }
 

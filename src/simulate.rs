@@ -38,7 +38,9 @@ const CLUBS: [&str; 20] = [
 ];
 
 pub fn club_name(i: usize) -> String {
-    CLUBS.get(i).map_or_else(|| format!("Club {}", i + 1), |s| (*s).to_string())
+    CLUBS
+        .get(i)
+        .map_or_else(|| format!("Club {}", i + 1), |s| (*s).to_string())
 }
 
 /// What to simulate.
@@ -61,19 +63,31 @@ pub struct Design {
 impl Design {
     pub fn validate(&self) -> Result<(), String> {
         if self.teams < 2 || self.teams % 2 != 0 {
-            return Err(format!("--teams must be an even number of at least 2 (every team plays every round), got {}", self.teams));
+            return Err(format!(
+                "--teams must be an even number of at least 2 (every team plays every round), got {}",
+                self.teams
+            ));
         }
         if self.seasons == 0 || self.games == 0 {
             return Err("--seasons and --games must be at least 1".to_string());
         }
         if !(self.shape.is_finite() && self.shape > 0.0) {
-            return Err(format!("--exponent (the Weibull shape) must be positive, got {}", self.shape));
+            return Err(format!(
+                "--exponent (the Weibull shape) must be positive, got {}",
+                self.shape
+            ));
         }
         if !(self.runs_per_game.is_finite() && self.runs_per_game > 0.0) {
-            return Err(format!("--runs-per-game must be positive, got {}", self.runs_per_game));
+            return Err(format!(
+                "--runs-per-game must be positive, got {}",
+                self.runs_per_game
+            ));
         }
         if !(self.talent_sd.is_finite() && self.talent_sd >= 0.0) {
-            return Err(format!("--talent-sd must be non-negative, got {}", self.talent_sd));
+            return Err(format!(
+                "--talent-sd must be non-negative, got {}",
+                self.talent_sd
+            ));
         }
         Ok(())
     }
@@ -92,7 +106,11 @@ pub struct Game {
 
 /// The date `offset` days after 1 April of `year`.
 pub fn season_day(year: i32, offset: usize) -> Date {
-    let mut d = Date { year, month: 4, day: 1 };
+    let mut d = Date {
+        year,
+        month: 4,
+        day: 1,
+    };
     for _ in 0..offset {
         d = next_day(d);
     }
@@ -107,11 +125,22 @@ fn next_day(d: Date) -> Date {
         _ => 31,
     };
     if d.day < last {
-        Date { day: d.day + 1, ..d }
+        Date {
+            day: d.day + 1,
+            ..d
+        }
     } else if d.month < 12 {
-        Date { month: d.month + 1, day: 1, ..d }
+        Date {
+            month: d.month + 1,
+            day: 1,
+            ..d
+        }
     } else {
-        Date { year: d.year + 1, month: 1, day: 1 }
+        Date {
+            year: d.year + 1,
+            month: 1,
+            day: 1,
+        }
     }
 }
 
@@ -144,7 +173,11 @@ pub fn games(design: &Design, mut sink: impl FnMut(&Game)) -> Result<(), String>
                 order.swap(i, j);
             }
             for pair in order.chunks_exact(2) {
-                let (home, away) = if rng.random_bool(0.5) { (pair[0], pair[1]) } else { (pair[1], pair[0]) };
+                let (home, away) = if rng.random_bool(0.5) {
+                    (pair[0], pair[1])
+                } else {
+                    (pair[1], pair[0])
+                };
                 let mean_home = design.runs_per_game * offence[home] * defence[away];
                 let mean_away = design.runs_per_game * offence[away] * defence[home];
                 let x_home: f64 = mean_home * scale_per_run * unit.sample(&mut rng);
@@ -158,7 +191,14 @@ pub fn games(design: &Design, mut sink: impl FnMut(&Game)) -> Result<(), String>
                         away_score += 1;
                     }
                 }
-                sink(&Game { season, date, home, away, home_score, away_score });
+                sink(&Game {
+                    season,
+                    date,
+                    home,
+                    away,
+                    home_score,
+                    away_score,
+                });
             }
         }
     }
@@ -196,7 +236,10 @@ pub fn seasons(design: &Design) -> Result<Vec<SeasonRow>, String> {
     }
     games(design, |g| {
         let base = (g.season - design.first_season) as usize * n;
-        for (team, scored, allowed) in [(g.home, g.home_score, g.away_score), (g.away, g.away_score, g.home_score)] {
+        for (team, scored, allowed) in [
+            (g.home, g.home_score, g.away_score),
+            (g.away, g.away_score, g.home_score),
+        ] {
             let r = &mut rows[base + team];
             r.games += 1;
             r.runs_scored += scored;
@@ -213,26 +256,39 @@ pub fn seasons(design: &Design) -> Result<Vec<SeasonRow>, String> {
 
 /// Team-seasons whose expected win% is exactly a given model's: each season draws a run environment
 /// uniformly from `rpg_range` (both teams, per game), each team a run ratio, and wins are binomial.
-pub fn truth_seasons(design: &Design, truth: &Model, rpg_range: (f64, f64)) -> Result<Vec<SeasonRow>, String> {
+pub fn truth_seasons(
+    design: &Design,
+    truth: &Model,
+    rpg_range: (f64, f64),
+) -> Result<Vec<SeasonRow>, String> {
     if design.teams == 0 || design.seasons == 0 || design.games == 0 {
         return Err("--teams, --seasons and --games must be at least 1".to_string());
     }
     if !(rpg_range.0 > 0.0 && rpg_range.1 >= rpg_range.0) {
-        return Err(format!("--rpg-range must be positive and ascending, got {}-{}", rpg_range.0, rpg_range.1));
+        return Err(format!(
+            "--rpg-range must be positive and ascending, got {}-{}",
+            rpg_range.0, rpg_range.1
+        ));
     }
     let mut rng = ChaCha8Rng::seed_from_u64(design.seed);
     let spread = Normal::new(0.0, 2.0 * design.talent_sd).map_err(|e| e.to_string())?;
     let g = design.games as f64;
     let mut rows = Vec::new();
     for s in 0..design.seasons {
-        let rpg = if rpg_range.1 > rpg_range.0 { rng.random_range(rpg_range.0..rpg_range.1) } else { rpg_range.0 };
+        let rpg = if rpg_range.1 > rpg_range.0 {
+            rng.random_range(rpg_range.0..rpg_range.1)
+        } else {
+            rpg_range.0
+        };
         for team in 0..design.teams {
             let ratio: f64 = spread.sample(&mut rng).exp();
             let runs = g * rpg;
             let rs = (runs * ratio / (1.0 + ratio)).round().max(1.0);
             let ra = (runs / (1.0 + ratio)).round().max(1.0);
             let p = truth.expected_win_pct(rs, ra, g).clamp(0.0, 1.0);
-            let wins = Binomial::new(design.games as u64, p).map_err(|e| e.to_string())?.sample(&mut rng);
+            let wins = Binomial::new(design.games as u64, p)
+                .map_err(|e| e.to_string())?
+                .sample(&mut rng);
             rows.push(SeasonRow {
                 season: design.first_season + s as i32,
                 team,
@@ -271,7 +327,10 @@ mod tests {
             seed: 3,
         };
         let rows = seasons(&d).unwrap();
-        assert!(rows.iter().all(|r| r.games == 10 && r.wins + r.losses == 10));
+        assert!(
+            rows.iter()
+                .all(|r| r.games == 10 && r.wins + r.losses == 10)
+        );
         let wins: u64 = rows.iter().map(|r| r.wins).sum();
         assert_eq!(wins, 6 * 2 * 10 / 2, "every game has one winner");
         let rs: u64 = rows.iter().map(|r| r.runs_scored).sum();

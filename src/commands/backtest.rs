@@ -41,12 +41,22 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     let files = &args.input.files;
     super::guard_outputs(&[args.output.output.as_ref()], files)?;
     let loss: Loss = args.loss.into();
-    let mut candidates: Vec<Candidate> = super::parse_models(&args.model)?.into_iter().map(Candidate::Fit).collect();
+    let mut candidates: Vec<Candidate> = super::parse_models(&args.model)?
+        .into_iter()
+        .map(Candidate::Fit)
+        .collect();
     if !args.no_references {
         candidates.extend(fit::standard_references().into_iter().map(Candidate::Fixed));
     }
     let (ds, table) = super::load(&args.input, None, &diag)?;
-    let scores = backtest::run(&ds.rows, &table, &candidates, loss, args.scheme, args.min_train)?;
+    let scores = backtest::run(
+        &ds.rows,
+        &table,
+        &candidates,
+        loss,
+        args.scheme,
+        args.min_train,
+    )?;
     let report = BacktestReport {
         scheme: args.scheme,
         loss,

@@ -45,15 +45,24 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     let diag = super::diagnostics(&args.output);
     let files = &args.input.files;
     super::guard_outputs(&[args.output.output.as_ref()], files)?;
-    for (name, v) in [("--max-mae", args.max_mae), ("--max-rmse", args.max_rmse), ("--max-logloss", args.max_logloss)] {
+    for (name, v) in [
+        ("--max-mae", args.max_mae),
+        ("--max-rmse", args.max_rmse),
+        ("--max-logloss", args.max_logloss),
+    ] {
         if let Some(x) = v
             && !(x.is_finite() && x >= 0.0)
         {
-            return Err(Error::Usage(format!("{name} must be a non-negative number, got {x}")));
+            return Err(Error::Usage(format!(
+                "{name} must be a non-negative number, got {x}"
+            )));
         }
     }
     if !(args.max_drift.is_finite() && args.max_drift > 0.0) {
-        return Err(Error::Usage(format!("--max-drift must be a positive number, got {}", args.max_drift)));
+        return Err(Error::Usage(format!(
+            "--max-drift must be a positive number, got {}",
+            args.max_drift
+        )));
     }
     let profile = Profile::load(&args.profile)?;
     let mut input = args.input.clone();
@@ -77,7 +86,10 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     };
     let rules = gate::evaluate(&profile, &scored, &refit, &bounds).map_err(Error::Usage)?;
     if rules.is_empty() {
-        return Err(Error::Usage("no rule to check: give --max-mae, --max-rmse or --max-logloss, or drop --no-drift".to_string()));
+        return Err(Error::Usage(
+            "no rule to check: give --max-mae, --max-rmse or --max-logloss, or drop --no-drift"
+                .to_string(),
+        ));
     }
     let passed = rules.iter().all(|r| r.passed);
     let report = CheckReport {

@@ -87,9 +87,19 @@ impl From<LossArg> for Loss {
 pub fn run(args: &Args) -> Result<u8, Error> {
     let diag = super::diagnostics(&args.output);
     let files = &args.input.files;
-    super::guard_outputs(&[args.output.output.as_ref(), args.save_profile.as_ref(), args.plot.as_ref()], files)?;
+    super::guard_outputs(
+        &[
+            args.output.output.as_ref(),
+            args.save_profile.as_ref(),
+            args.plot.as_ref(),
+        ],
+        files,
+    )?;
     if !(args.ci_level > 0.0 && args.ci_level < 1.0) {
-        return Err(Error::Usage(format!("--ci-level must lie between 0 and 1, got {}", args.ci_level)));
+        return Err(Error::Usage(format!(
+            "--ci-level must lie between 0 and 1, got {}",
+            args.ci_level
+        )));
     }
     let loss: Loss = args.loss.into();
     let kinds = super::parse_models(&args.model)?;
@@ -101,7 +111,9 @@ pub fn run(args: &Args) -> Result<u8, Error> {
 
     if let Some(x) = args.exponent {
         if !(x.is_finite() && x > 0.0) {
-            return Err(Error::Usage(format!("--exponent must be a positive number, got {x}")));
+            return Err(Error::Usage(format!(
+                "--exponent must be a positive number, got {x}"
+            )));
         }
         primary = Model::new(ModelKind::Pythagorean, vec![x]);
         fits.push(fit::score_model(&table, primary.clone(), loss));
@@ -119,7 +131,8 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             for (j, &kind) in kinds.iter().enumerate() {
                 let mut f = fit::fit_model(&sub, kind, loss)?;
                 if args.bootstrap > 0 {
-                    f.intervals = Some(bootstrap::run(&sub, &rows, &f, &boot_options(args, &diag))?);
+                    f.intervals =
+                        Some(bootstrap::run(&sub, &rows, &f, &boot_options(args, &diag))?);
                 }
                 f.group = Some(group.clone());
                 if j == 0 {
@@ -130,14 +143,25 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             }
         }
         primary = first.ok_or_else(|| {
-            Error::Usage(format!("every group has fewer than --min-group {} team-seasons", args.min_group))
+            Error::Usage(format!(
+                "every group has fewer than --min-group {} team-seasons",
+                args.min_group
+            ))
         })?;
     } else {
         for &kind in &kinds {
             let mut f = fit::fit_model(&table, kind, loss)?;
-            diag.debug(&format!("{kind}: {} iterations, converged {}", f.iterations, f.converged));
+            diag.debug(&format!(
+                "{kind}: {} iterations, converged {}",
+                f.iterations, f.converged
+            ));
             if args.bootstrap > 0 {
-                f.intervals = Some(bootstrap::run(&table, &ds.rows, &f, &boot_options(args, &diag))?);
+                f.intervals = Some(bootstrap::run(
+                    &table,
+                    &ds.rows,
+                    &f,
+                    &boot_options(args, &diag),
+                )?);
             }
             fits.push(f);
         }
@@ -149,7 +173,11 @@ pub fn run(args: &Args) -> Result<u8, Error> {
 
     if !args.grouped() {
         let mut refs: Vec<ModelFit> = Vec::new();
-        let standard = if args.no_references { Vec::new() } else { fit::standard_references() };
+        let standard = if args.no_references {
+            Vec::new()
+        } else {
+            fit::standard_references()
+        };
         for m in standard.into_iter().chain(args.references.iter().cloned()) {
             if !refs.iter().any(|r| r.model == m) {
                 refs.push(fit::score_model(&table, m, loss));
@@ -163,7 +191,11 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         let f = fits
             .iter()
             .find(|f| f.fitted && f.group.is_none())
-            .ok_or_else(|| Error::Usage("--save-profile needs a fit over all rows (not --by or --exponent)".to_string()))?;
+            .ok_or_else(|| {
+                Error::Usage(
+                    "--save-profile needs a fit over all rows (not --by or --exponent)".to_string(),
+                )
+            })?;
         let p = profile::Profile::from_fit(f, &ds, &table, &args.input, files)?;
         p.save(path)?;
         diag.note(&format!("saved calibration to {path}"));

@@ -66,7 +66,9 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         (Some(p), Some(path)) => (p.model(), ModelSource::Profile(path.clone())),
         _ => {
             let kinds = super::parse_models(&args.model)?;
-            let kind = *kinds.first().ok_or_else(|| Error::Usage("--model names no model".to_string()))?;
+            let kind = *kinds
+                .first()
+                .ok_or_else(|| Error::Usage("--model names no model".to_string()))?;
             let f = fit::fit_model(&table, kind, Loss::Logloss)?;
             diag.note(&format!(
                 "no --profile: fitted {} on these {} team-seasons ({})",
@@ -77,11 +79,20 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             (f.model, ModelSource::Fitted)
         }
     };
-    let season_games = args.season_games.or(profile.as_ref().map(|p| p.season_games));
+    let season_games = args
+        .season_games
+        .or(profile.as_ref().map(|p| p.season_games));
     let k = match args.regress_games {
         Some(k) if k.is_finite() && k >= 0.0 => Some(k),
-        Some(k) => return Err(Error::Usage(format!("--regress-games must be a non-negative number, got {k}"))),
-        None => profile.as_ref().and_then(|p| p.regression_games).or_else(|| luck::regression_games(&table)),
+        Some(k) => {
+            return Err(Error::Usage(format!(
+                "--regress-games must be a non-negative number, got {k}"
+            )));
+        }
+        None => profile
+            .as_ref()
+            .and_then(|p| p.regression_games)
+            .or_else(|| luck::regression_games(&table)),
     };
     let regression = match (season_games, k) {
         (Some(g), Some(k)) => Some((k, g)),

@@ -17,11 +17,18 @@ use crate::report::{self, Report};
 pub const EXIT_CHECK_FAILED: u8 = 1;
 
 pub fn diagnostics(out: &OutputArgs) -> Diagnostics {
-    Diagnostics { quiet: out.quiet, verbose: out.verbose }
+    Diagnostics {
+        quiet: out.quiet,
+        verbose: out.verbose,
+    }
 }
 
 /// Load, validate and tabulate the inputs; report what was set aside.
-pub fn load(input: &InputArgs, as_of: Option<Date>, diag: &Diagnostics) -> Result<(Dataset, Table), Error> {
+pub fn load(
+    input: &InputArgs,
+    as_of: Option<Date>,
+    diag: &Diagnostics,
+) -> Result<(Dataset, Table), Error> {
     let mut ds = data::load(&input.files, input.games, as_of, &input.load_options())?;
     data::table::decided_rows(&mut ds, input.tie_policy(), input.skip_invalid)?;
     diag.dataset(&ds);

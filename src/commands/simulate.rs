@@ -74,7 +74,10 @@ fn parse_range(s: &str) -> Result<(f64, f64), String> {
 }
 
 fn write_err(file: &str) -> impl Fn(std::io::Error) -> Error + '_ {
-    move |source| Error::Write { file: file.to_string(), source }
+    move |source| Error::Write {
+        file: file.to_string(),
+        source,
+    }
 }
 
 pub fn run(args: &Args) -> Result<u8, Error> {
@@ -90,7 +93,9 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         seed: args.seed,
     };
     if args.game_log && args.format != Format::Csv {
-        return Err(Error::Usage("--game-log writes CSV only (use --format csv)".to_string()));
+        return Err(Error::Usage(
+            "--game-log writes CSV only (use --format csv)".to_string(),
+        ));
     }
     match &args.out {
         Some(path) => {
@@ -106,7 +111,9 @@ pub fn run(args: &Args) -> Result<u8, Error> {
                 .map_err(write_err(path))?;
             let mut w = std::io::BufWriter::with_capacity(1 << 20, tmp);
             write_league(&mut w, &design, args, path)?;
-            let tmp = w.into_inner().map_err(|e| write_err(path)(e.into_error()))?;
+            let tmp = w
+                .into_inner()
+                .map_err(|e| write_err(path)(e.into_error()))?;
             tmp.as_file().sync_all().map_err(write_err(path))?;
             tmp.persist(path).map_err(|e| write_err(path)(e.error))?;
             if !args.quiet {
@@ -117,7 +124,9 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             let mut w = std::io::BufWriter::with_capacity(1 << 20, std::io::stdout().lock());
             write_league(&mut w, &design, args, "<stdout>")?;
             match w.flush() {
-                Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => return Err(write_err("<stdout>")(e)),
+                Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => {
+                    return Err(write_err("<stdout>")(e));
+                }
                 _ => {}
             }
         }
@@ -128,16 +137,25 @@ pub fn run(args: &Args) -> Result<u8, Error> {
 fn write_league(w: &mut impl Write, design: &Design, args: &Args, name: &str) -> Result<(), Error> {
     if args.game_log {
         design.validate().map_err(Error::Usage)?;
-        let names: Vec<String> = (0..design.teams).map(|i| safe(&simulate::club_name(i)).into_owned()).collect();
+        let names: Vec<String> = (0..design.teams)
+            .map(|i| safe(&simulate::club_name(i)).into_owned())
+            .collect();
         let league = safe(&design.league).into_owned();
-        writeln!(w, "season,league,date,home,away,home_score,away_score").map_err(write_err(name))?;
+        writeln!(w, "season,league,date,home,away,home_score,away_score")
+            .map_err(write_err(name))?;
         let mut failure: Option<std::io::Error> = None;
         simulate::games(design, |g| {
             if failure.is_none()
                 && let Err(e) = writeln!(
                     w,
                     "{},{},{},{},{},{},{}",
-                    g.season, league, g.date, names[g.home], names[g.away], g.home_score, g.away_score
+                    g.season,
+                    league,
+                    g.date,
+                    names[g.home],
+                    names[g.away],
+                    g.home_score,
+                    g.away_score
                 )
             {
                 failure = Some(e);
@@ -162,8 +180,17 @@ fn render(rows: &[SeasonRow], design: &Design, format: Format) -> Result<Vec<u8>
     match format {
         Format::Csv => {
             let mut w = csv::Writer::from_writer(Vec::new());
-            w.write_record(["season", "league", "team", "games", "wins", "losses", "runs_scored", "runs_allowed"])
-                .map_err(crate::report::csv::write_err)?;
+            w.write_record([
+                "season",
+                "league",
+                "team",
+                "games",
+                "wins",
+                "losses",
+                "runs_scored",
+                "runs_allowed",
+            ])
+            .map_err(crate::report::csv::write_err)?;
             for r in rows {
                 w.write_record([
                     r.season.to_string(),
@@ -190,12 +217,16 @@ fn render(rows: &[SeasonRow], design: &Design, format: Format) -> Result<Vec<u8>
                     "wins": r.wins, "losses": r.losses, "runs_scored": r.runs_scored, "runs_allowed": r.runs_allowed,
                 })).collect::<Vec<_>>(),
             });
-            let mut s = serde_json::to_string_pretty(&v).map_err(|e| Error::Usage(e.to_string()))?;
+            let mut s =
+                serde_json::to_string_pretty(&v).map_err(|e| Error::Usage(e.to_string()))?;
             s.push('\n');
             Ok(s.into_bytes())
         }
         Format::Table => {
-            let mut t = crate::report::table::new_table(&["season", "team", "games", "record", "runs", "runs allowed"], 2);
+            let mut t = crate::report::table::new_table(
+                &["season", "team", "games", "record", "runs", "runs allowed"],
+                2,
+            );
             for r in rows {
                 t.add_row(vec![
                     r.season.to_string(),

@@ -74,22 +74,66 @@ const GAME: usize = 7;
 
 /// The roles of a game log and the generic aliases that claim them.
 pub const ROLES: &[RoleSpec] = &[
-    RoleSpec { name: "date", aliases: &["date", "game_date", "day"], required: true },
-    RoleSpec { name: "home", aliases: &["home", "home_team", "host"], required: true },
-    RoleSpec { name: "away", aliases: &["away", "away_team", "visitor", "visitors", "road", "visiting_team"], required: true },
+    RoleSpec {
+        name: "date",
+        aliases: &["date", "game_date", "day"],
+        required: true,
+    },
+    RoleSpec {
+        name: "home",
+        aliases: &["home", "home_team", "host"],
+        required: true,
+    },
+    RoleSpec {
+        name: "away",
+        aliases: &[
+            "away",
+            "away_team",
+            "visitor",
+            "visitors",
+            "road",
+            "visiting_team",
+        ],
+        required: true,
+    },
     RoleSpec {
         name: "home_score",
-        aliases: &["home_score", "home_runs", "home_points", "home_goals", "home_pts"],
+        aliases: &[
+            "home_score",
+            "home_runs",
+            "home_points",
+            "home_goals",
+            "home_pts",
+        ],
         required: true,
     },
     RoleSpec {
         name: "away_score",
-        aliases: &["away_score", "away_runs", "away_points", "away_goals", "away_pts", "visitor_score"],
+        aliases: &[
+            "away_score",
+            "away_runs",
+            "away_points",
+            "away_goals",
+            "away_pts",
+            "visitor_score",
+        ],
         required: true,
     },
-    RoleSpec { name: "season", aliases: &["season", "year"], required: false },
-    RoleSpec { name: "league", aliases: &["league", "lg"], required: false },
-    RoleSpec { name: "game", aliases: &["game", "game_number", "game_no"], required: false },
+    RoleSpec {
+        name: "season",
+        aliases: &["season", "year"],
+        required: false,
+    },
+    RoleSpec {
+        name: "league",
+        aliases: &["league", "lg"],
+        required: false,
+    },
+    RoleSpec {
+        name: "game",
+        aliases: &["game", "game_number", "game_no"],
+        required: false,
+    },
 ];
 
 #[derive(Debug, Clone, Default)]
@@ -136,7 +180,7 @@ struct FileTotals {
 }
 
 enum Pass {
-    Done(FileTotals),
+    Done(Box<FileTotals>),
     /// Dates went backwards: a rolling duplicate check cannot see every earlier game.
     OutOfOrder,
 }
@@ -145,7 +189,11 @@ fn trim(bytes: &[u8]) -> &[u8] {
     bytes.trim_ascii()
 }
 
-pub fn load(paths: &[String], as_of: Option<Date>, opts: &LoadOptions) -> Result<Dataset, DataError> {
+pub fn load(
+    paths: &[String],
+    as_of: Option<Date>,
+    opts: &LoadOptions,
+) -> Result<Dataset, DataError> {
     roles::check_mappings(ROLES, &opts.maps)?;
     let mut merged: HashMap<(i32, Option<String>, String), (Record, String)> = HashMap::new();
     let mut ds = Dataset::default();
@@ -164,10 +212,20 @@ pub fn load(paths: &[String], as_of: Option<Date>, opts: &LoadOptions) -> Result
         for ((season, league, team), rec) in totals.records {
             let league_name = (totals.leagues.names[league as usize].as_str() != "")
                 .then(|| totals.leagues.names[league as usize].clone());
-            let key = (season, league_name, totals.teams.names[team as usize].clone());
-            let entry = merged
-                .entry(key)
-                .or_insert_with(|| (Record { first_line: rec.first_line, ..Record::default() }, file.clone()));
+            let key = (
+                season,
+                league_name,
+                totals.teams.names[team as usize].clone(),
+            );
+            let entry = merged.entry(key).or_insert_with(|| {
+                (
+                    Record {
+                        first_line: rec.first_line,
+                        ..Record::default()
+                    },
+                    file.clone(),
+                )
+            });
             let acc = &mut entry.0;
             acc.games += rec.games;
             acc.wins += rec.wins;
@@ -181,13 +239,19 @@ pub fn load(paths: &[String], as_of: Option<Date>, opts: &LoadOptions) -> Result
     }
     let mut rows: Vec<TeamSeason> = Vec::with_capacity(merged.len());
     for ((season, league, team), (rec, file)) in merged {
-        let at = Location { file, line: Some(rec.first_line), column: None };
+        let at = Location {
+            file,
+            line: Some(rec.first_line),
+            column: None,
+        };
         if rec.runs_scored == 0 && rec.runs_allowed == 0 {
             ds.reject(
                 opts.skip_invalid,
                 Rejection {
                     at,
-                    reason: format!("{team} {season}: runs scored and runs allowed are both 0 in every game"),
+                    reason: format!(
+                        "{team} {season}: runs scored and runs allowed are both 0 in every game"
+                    ),
                 },
             )?;
             continue;
@@ -220,13 +284,20 @@ fn aggregate(
     global_keys: bool,
 ) -> Result<Pass, DataError> {
     let reader = input::open(path, opts.max_line_bytes)?;
-    let mut rdr = csv::ReaderBuilder::new().flexible(false).from_reader(reader);
+    let mut rdr = csv::ReaderBuilder::new()
+        .flexible(false)
+        .from_reader(reader);
     let headers: Vec<String> = match rdr.byte_headers() {
-        Ok(h) => h.iter().map(|f| String::from_utf8_lossy(f).into_owned()).collect(),
+        Ok(h) => h
+            .iter()
+            .map(|f| String::from_utf8_lossy(f).into_owned())
+            .collect(),
         Err(e) => return Err(input::csv_error(file, e)),
     };
     if headers.is_empty() || (headers.len() == 1 && headers[0].trim().is_empty()) {
-        return Err(DataError::Empty { file: file.to_string() });
+        return Err(DataError::Empty {
+            file: file.to_string(),
+        });
     }
     let map = roles::resolve(file, &headers, ROLES, &opts.maps)?;
     let col = |role: usize| map.index[role];
@@ -263,7 +334,10 @@ fn aggregate(
         }
         count += 1;
         if count > opts.max_rows {
-            return Err(DataError::TooManyRows { file: file.to_string(), limit: opts.max_rows });
+            return Err(DataError::TooManyRows {
+                file: file.to_string(),
+                limit: opts.max_rows,
+            });
         }
         let line = record.position().map_or(0, |p| p.line());
         let field = |c: Option<usize>| c.and_then(|i| record.get(i)).map(trim).unwrap_or_default();
@@ -278,24 +352,37 @@ fn aggregate(
         let date_text = field(date_col);
         let Some(date) = Date::parse(date_text) else {
             let shown = String::from_utf8_lossy(date_text);
-            reject(&mut totals, fail(DATE, format!("expected an ISO 8601 date (YYYY-MM-DD), found '{shown}'")))?;
+            reject(
+                &mut totals,
+                fail(
+                    DATE,
+                    format!("expected an ISO 8601 date (YYYY-MM-DD), found '{shown}'"),
+                ),
+            )?;
             continue;
         };
         let home = field(home_col);
         let away = field(away_col);
         if home.is_empty() || away.is_empty() {
             let role = if home.is_empty() { HOME } else { AWAY };
-            reject(&mut totals, fail(role, "the team name is empty".to_string()))?;
+            reject(
+                &mut totals,
+                fail(role, "the team name is empty".to_string()),
+            )?;
             continue;
         }
         if home == away {
             let shown = String::from_utf8_lossy(home);
-            reject(&mut totals, fail(AWAY, format!("'{shown}' is listed as playing itself")))?;
+            reject(
+                &mut totals,
+                fail(AWAY, format!("'{shown}' is listed as playing itself")),
+            )?;
             continue;
         }
         let score = |role: usize, c: Option<usize>| -> Result<u64, Rejection> {
             let b = field(c);
-            let t = std::str::from_utf8(b).map_err(|_| fail(role, "not valid UTF-8".to_string()))?;
+            let t =
+                std::str::from_utf8(b).map_err(|_| fail(role, "not valid UTF-8".to_string()))?;
             parse_count(t).map_err(|e| fail(role, e))
         };
         let (hs, aw) = match (score(HOME_SCORE, hs_col), score(AWAY_SCORE, as_col)) {
@@ -308,11 +395,20 @@ fn aggregate(
         let season = match col(SEASON) {
             Some(_) => {
                 let b = field(col(SEASON));
-                match std::str::from_utf8(b).ok().and_then(|s| s.parse::<i32>().ok()) {
+                match std::str::from_utf8(b)
+                    .ok()
+                    .and_then(|s| s.parse::<i32>().ok())
+                {
                     Some(s) => s,
                     None => {
                         let shown = String::from_utf8_lossy(b);
-                        reject(&mut totals, fail(SEASON, format!("expected a season (a whole number), found '{shown}'")))?;
+                        reject(
+                            &mut totals,
+                            fail(
+                                SEASON,
+                                format!("expected a season (a whole number), found '{shown}'"),
+                            ),
+                        )?;
                         continue;
                     }
                 }
@@ -335,7 +431,10 @@ fn aggregate(
             totals.teams.id(away),
             totals.leagues.id(league_bytes),
         ) else {
-            reject(&mut totals, fail(HOME, "a team or league name is not valid UTF-8".to_string()))?;
+            reject(
+                &mut totals,
+                fail(HOME, "a team or league name is not valid UTF-8".to_string()),
+            )?;
             continue;
         };
         let packed = date.packed();
@@ -357,25 +456,52 @@ fn aggregate(
             !keys_today.insert((home_id, away_id, game_no))
         };
         if duplicate {
-            let first = first_line_of_key.get(&key).map(|l| format!(" (first at line {l})")).unwrap_or_default();
-            let shown = format!("{} {} at {}", date, String::from_utf8_lossy(away), String::from_utf8_lossy(home));
-            let hint = if col(GAME).is_none() { "; a doubleheader needs a 'game' column" } else { "" };
-            reject(&mut totals, fail(DATE, format!("duplicate game {shown}{first}{hint}")))?;
+            let first = first_line_of_key
+                .get(&key)
+                .map(|l| format!(" (first at line {l})"))
+                .unwrap_or_default();
+            let shown = format!(
+                "{} {} at {}",
+                date,
+                String::from_utf8_lossy(away),
+                String::from_utf8_lossy(home)
+            );
+            let hint = if col(GAME).is_none() {
+                "; a doubleheader needs a 'game' column"
+            } else {
+                ""
+            };
+            reject(
+                &mut totals,
+                fail(DATE, format!("duplicate game {shown}{first}{hint}")),
+            )?;
             continue;
         }
         if !global_keys {
             first_line_of_key.insert(key, line);
         }
-        if as_of.is_some_and(|cut| date > cut) || !opts.keeps(season, Some(std::str::from_utf8(league_bytes).unwrap_or("")).filter(|l| !l.is_empty())) {
+        if as_of.is_some_and(|cut| date > cut)
+            || !opts.keeps(
+                season,
+                Some(std::str::from_utf8(league_bytes).unwrap_or("")).filter(|l| !l.is_empty()),
+            )
+        {
             totals.filtered_out += 1;
             continue;
         }
-        let league_id = if league_bytes.is_empty() { no_league } else { league_id };
+        let league_id = if league_bytes.is_empty() {
+            no_league
+        } else {
+            league_id
+        };
         for (team, scored, allowed) in [(home_id, hs, aw), (away_id, aw, hs)] {
-            let rec = totals.records.entry((season, league_id, team)).or_insert_with(|| Record {
-                first_line: line,
-                ..Record::default()
-            });
+            let rec = totals
+                .records
+                .entry((season, league_id, team))
+                .or_insert_with(|| Record {
+                    first_line: line,
+                    ..Record::default()
+                });
             rec.games += 1;
             rec.runs_scored += scored;
             rec.runs_allowed += allowed;
@@ -396,7 +522,7 @@ fn aggregate(
             }
         }
     }
-    Ok(Pass::Done(totals))
+    Ok(Pass::Done(Box::new(totals)))
 }
 
 #[cfg(test)]

@@ -105,6 +105,14 @@ pub fn csv_error(file: &str, err: csv::Error) -> DataError {
     })
 }
 
+/// Whether a csv error concerns one row only (the reader can go on past it).
+pub fn is_row_error(err: &csv::Error) -> bool {
+    matches!(
+        err.kind(),
+        csv::ErrorKind::UnequalLengths { .. } | csv::ErrorKind::Utf8 { .. }
+    )
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -113,7 +121,9 @@ mod tests {
     fn long_lines_are_refused_short_ones_pass() {
         let data = b"ab\ncdef\n".to_vec();
         let mut ok = String::new();
-        LineLimit::new(&data[..], 4).read_to_string(&mut ok).unwrap();
+        LineLimit::new(&data[..], 4)
+            .read_to_string(&mut ok)
+            .unwrap();
         assert_eq!(ok, "ab\ncdef\n");
         let mut out = String::new();
         let err = LineLimit::new(&data[..], 3)
@@ -121,12 +131,4 @@ mod tests {
             .unwrap_err();
         assert!(err.to_string().contains("line 2"), "{err}");
     }
-}
-
-/// Whether a csv error concerns one row only (the reader can go on past it).
-pub fn is_row_error(err: &csv::Error) -> bool {
-    matches!(
-        err.kind(),
-        csv::ErrorKind::UnequalLengths { .. } | csv::ErrorKind::Utf8 { .. }
-    )
 }

@@ -49,9 +49,9 @@ impl std::str::FromStr for SeasonRange {
     type Err = String;
     fn from_str(s: &str) -> Result<Self, Self::Err> {
         let parse = |t: &str| {
-            t.trim()
-                .parse::<i32>()
-                .map_err(|_| format!("expected a season like 2019 or a range like 1980-2006, got '{s}'"))
+            t.trim().parse::<i32>().map_err(|_| {
+                format!("expected a season like 2019 or a range like 1980-2006, got '{s}'")
+            })
         };
         let (first, last) = match s.trim().split_once('-') {
             Some((a, b)) => (parse(a)?, parse(b)?),
@@ -162,12 +162,22 @@ impl Dataset {
         for row in std::mem::take(&mut self.rows) {
             let key = (row.season, row.league.clone(), row.team.clone());
             if let Some(first) = seen.get(&key) {
-                let league = row.league.as_deref().map(|l| format!(" {l}")).unwrap_or_default();
+                let league = row
+                    .league
+                    .as_deref()
+                    .map(|l| format!(" {l}"))
+                    .unwrap_or_default();
                 let reason = format!(
                     "duplicate team-season {}{} {} (first at {})",
                     row.season, league, row.team, first
                 );
-                self.reject(skip_invalid, Rejection { at: row.at.clone(), reason })?;
+                self.reject(
+                    skip_invalid,
+                    Rejection {
+                        at: row.at.clone(),
+                        reason,
+                    },
+                )?;
                 continue;
             }
             seen.insert(key, row.at.clone());
@@ -192,7 +202,8 @@ impl Dataset {
         let mut lengths: Vec<u64> = self.rows.iter().map(|r| r.games).collect();
         lengths.sort_unstable();
         if let Some(&median) = lengths.get(lengths.len() / 2) {
-            let short: Vec<&TeamSeason> = self.rows.iter().filter(|r| r.games * 2 < median).collect();
+            let short: Vec<&TeamSeason> =
+                self.rows.iter().filter(|r| r.games * 2 < median).collect();
             if let Some(first) = short.first() {
                 self.warnings.push(format!(
                     "{} team-seasons are very short (under half the median of {median} games); fitted, but their win% is noisy; first at {} ({} games)",
@@ -263,11 +274,17 @@ mod tests {
     fn season_ranges_parse() {
         assert_eq!(
             "1980-2006".parse::<SeasonRange>().unwrap(),
-            SeasonRange { first: 1980, last: 2006 }
+            SeasonRange {
+                first: 1980,
+                last: 2006
+            }
         );
         assert_eq!(
             "2019".parse::<SeasonRange>().unwrap(),
-            SeasonRange { first: 2019, last: 2019 }
+            SeasonRange {
+                first: 2019,
+                last: 2019
+            }
         );
         assert!("2006-1980".parse::<SeasonRange>().is_err());
         assert!("x".parse::<SeasonRange>().is_err());

@@ -153,7 +153,10 @@ pub fn resolve(
     }
     Ok(ColumnMap {
         index,
-        headers: headers.iter().map(|h| h.trim_start_matches('\u{feff}').to_string()).collect(),
+        headers: headers
+            .iter()
+            .map(|h| h.trim_start_matches('\u{feff}').to_string())
+            .collect(),
     })
 }
 

@@ -16,23 +16,71 @@ const GAMES: usize = 8;
 
 /// The roles of a team-season table and the generic trade aliases that claim them.
 pub const ROLES: &[RoleSpec] = &[
-    RoleSpec { name: "season", aliases: &["season", "year", "yr", "season_id"], required: true },
-    RoleSpec { name: "league", aliases: &["league", "lg", "league_id", "conference"], required: false },
-    RoleSpec { name: "team", aliases: &["team", "club", "team_id", "team_name", "tm"], required: true },
-    RoleSpec { name: "wins", aliases: &["wins", "w", "won"], required: true },
-    RoleSpec { name: "losses", aliases: &["losses", "l", "lost"], required: true },
-    RoleSpec { name: "ties", aliases: &["ties", "t", "draws", "d", "tied"], required: false },
+    RoleSpec {
+        name: "season",
+        aliases: &["season", "year", "yr", "season_id"],
+        required: true,
+    },
+    RoleSpec {
+        name: "league",
+        aliases: &["league", "lg", "league_id", "conference"],
+        required: false,
+    },
+    RoleSpec {
+        name: "team",
+        aliases: &["team", "club", "team_id", "team_name", "tm"],
+        required: true,
+    },
+    RoleSpec {
+        name: "wins",
+        aliases: &["wins", "w", "won"],
+        required: true,
+    },
+    RoleSpec {
+        name: "losses",
+        aliases: &["losses", "l", "lost"],
+        required: true,
+    },
+    RoleSpec {
+        name: "ties",
+        aliases: &["ties", "t", "draws", "d", "tied"],
+        required: false,
+    },
     RoleSpec {
         name: "runs_scored",
-        aliases: &["runs_scored", "rs", "pf", "gf", "points_for", "goals_for", "runs_for", "points_scored", "goals_scored"],
+        aliases: &[
+            "runs_scored",
+            "rs",
+            "pf",
+            "gf",
+            "points_for",
+            "goals_for",
+            "runs_for",
+            "points_scored",
+            "goals_scored",
+        ],
         required: true,
     },
     RoleSpec {
         name: "runs_allowed",
-        aliases: &["runs_allowed", "ra", "pa", "ga", "points_against", "goals_against", "runs_against", "points_allowed", "goals_allowed"],
+        aliases: &[
+            "runs_allowed",
+            "ra",
+            "pa",
+            "ga",
+            "points_against",
+            "goals_against",
+            "runs_against",
+            "points_allowed",
+            "goals_allowed",
+        ],
         required: true,
     },
-    RoleSpec { name: "games", aliases: &["games", "g", "gp", "games_played"], required: false },
+    RoleSpec {
+        name: "games",
+        aliases: &["games", "g", "gp", "games_played"],
+        required: false,
+    },
 ];
 
 pub fn load(paths: &[String], opts: &LoadOptions) -> Result<Dataset, DataError> {
@@ -53,7 +101,10 @@ fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), Data
         .trim(csv::Trim::All)
         .from_reader(reader);
     let headers: Vec<String> = match rdr.byte_headers() {
-        Ok(h) => h.iter().map(|f| String::from_utf8_lossy(f).into_owned()).collect(),
+        Ok(h) => h
+            .iter()
+            .map(|f| String::from_utf8_lossy(f).into_owned())
+            .collect(),
         Err(e) => return Err(input::csv_error(&file, e)),
     };
     if headers.is_empty() || (headers.len() == 1 && headers[0].trim().is_empty()) {
@@ -76,7 +127,10 @@ fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), Data
         }
         count += 1;
         if count > opts.max_rows {
-            return Err(DataError::TooManyRows { file, limit: opts.max_rows });
+            return Err(DataError::TooManyRows {
+                file,
+                limit: opts.max_rows,
+            });
         }
         let line = record.position().map(|p| p.line());
         match parse_row(&file, line, &map, &record) {
@@ -118,16 +172,17 @@ fn parse_row(
             }
         }
     };
-    let required = |role: usize| -> Result<&str, Rejection> {
-        Ok(text(role)?.unwrap_or_default())
-    };
+    let required = |role: usize| -> Result<&str, Rejection> { Ok(text(role)?.unwrap_or_default()) };
     let count = |role: usize| -> Result<u64, Rejection> {
         parse_count(required(role)?).map_err(|e| fail(role, e))
     };
     let season_text = required(SEASON)?;
-    let season: i32 = season_text
-        .parse()
-        .map_err(|_| fail(SEASON, format!("expected a season (a whole number), found '{season_text}'")))?;
+    let season: i32 = season_text.parse().map_err(|_| {
+        fail(
+            SEASON,
+            format!("expected a season (a whole number), found '{season_text}'"),
+        )
+    })?;
     let league = text(LEAGUE)?.filter(|s| !s.is_empty()).map(str::to_string);
     let team = required(TEAM)?;
     if team.is_empty() {
@@ -138,7 +193,11 @@ fn parse_row(
     let ties = match map.index[TIES] {
         Some(_) => {
             let t = required(TIES)?;
-            if t.is_empty() { 0 } else { parse_count(t).map_err(|e| fail(TIES, e))? }
+            if t.is_empty() {
+                0
+            } else {
+                parse_count(t).map_err(|e| fail(TIES, e))?
+            }
         }
         None => 0,
     };
@@ -146,10 +205,16 @@ fn parse_row(
     let runs_allowed = parse_number(required(RUNS_ALLOWED)?).map_err(|e| fail(RUNS_ALLOWED, e))?;
     let decisions = wins + losses + ties;
     if decisions == 0 {
-        return Err(fail(WINS, "W+L+T is 0: the team has no games to judge".to_string()));
+        return Err(fail(
+            WINS,
+            "W+L+T is 0: the team has no games to judge".to_string(),
+        ));
     }
     if runs_scored == 0.0 && runs_allowed == 0.0 {
-        return Err(fail(RUNS_SCORED, "runs scored and runs allowed are both 0".to_string()));
+        return Err(fail(
+            RUNS_SCORED,
+            "runs scored and runs allowed are both 0".to_string(),
+        ));
     }
     let games = match map.index[GAMES] {
         Some(_) => {
@@ -172,6 +237,10 @@ fn parse_row(
         runs_allowed,
         games,
         one_run: None,
-        at: Location { file: file.to_string(), line, column: None },
+        at: Location {
+            file: file.to_string(),
+            line,
+            column: None,
+        },
     })
 }

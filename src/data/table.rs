@@ -54,7 +54,10 @@ impl Table {
         let mut t = Table::default();
         for r in rows {
             let (w, l) = match ties {
-                TiePolicy::Half => (r.wins as f64 + r.ties as f64 / 2.0, r.losses as f64 + r.ties as f64 / 2.0),
+                TiePolicy::Half => (
+                    r.wins as f64 + r.ties as f64 / 2.0,
+                    r.losses as f64 + r.ties as f64 / 2.0,
+                ),
                 TiePolicy::Exclude => (r.wins as f64, r.losses as f64),
             };
             let n = w + l;
@@ -122,7 +125,11 @@ impl Table {
 }
 
 /// Drop rows that have no decided games under the tie policy, as rejections.
-pub fn decided_rows(ds: &mut super::Dataset, ties: TiePolicy, skip_invalid: bool) -> Result<(), crate::error::DataError> {
+pub fn decided_rows(
+    ds: &mut super::Dataset,
+    ties: TiePolicy,
+    skip_invalid: bool,
+) -> Result<(), crate::error::DataError> {
     if ties == TiePolicy::Half {
         return Ok(());
     }

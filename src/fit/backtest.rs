@@ -52,6 +52,9 @@ pub struct Fold {
     pub loss: f64,
 }
 
+/// A fold with the held-out rows and their predictions.
+type FoldPredictions = (Fold, Vec<usize>, Vec<f64>);
+
 /// A candidate's pooled out-of-sample result.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CandidateScore {
@@ -61,7 +64,11 @@ pub struct CandidateScore {
 }
 
 /// Seasons held out under a scheme, each with its training and test row indices.
-pub fn folds(rows: &[TeamSeason], scheme: Scheme, min_train: usize) -> Vec<(i32, Vec<usize>, Vec<usize>)> {
+pub fn folds(
+    rows: &[TeamSeason],
+    scheme: Scheme,
+    min_train: usize,
+) -> Vec<(i32, Vec<usize>, Vec<usize>)> {
     let mut seasons: Vec<i32> = rows.iter().map(|r| r.season).collect();
     seasons.sort_unstable();
     seasons.dedup();
@@ -98,18 +105,31 @@ pub fn run(
         return Err(FitError::Invalid(format!(
             "no season can be held out: {} needs at least {} earlier season(s) of training data",
             scheme.name(),
-            if scheme == Scheme::Rolling { min_train.max(1) } else { 1 }
+            if scheme == Scheme::Rolling {
+                min_train.max(1)
+            } else {
+                1
+            }
         )));
     }
     let mut out = Vec::new();
     for c in candidates {
-        let results: Vec<Result<(Fold, Vec<usize>, Vec<f64>), FitError>> = folds
+        let results: Vec<Result<FoldPredictions, FitError>> = folds
             .par_iter()
             .map(|(season, train, test)| {
                 let params = match c {
                     Candidate::Fit(kind) => {
                         let sub = t.subset(train);
-                        solve::fit(Problem { table: &sub, kind: *kind, loss, counts: None }, None)?.params
+                        solve::fit(
+                            Problem {
+                                table: &sub,
+                                kind: *kind,
+                                loss,
+                                counts: None,
+                            },
+                            None,
+                        )?
+                        .params
                     }
                     Candidate::Fixed(m) => m.params.clone(),
                 };
@@ -118,10 +138,19 @@ pub fn run(
                     Candidate::Fixed(m) => m.kind,
                 };
                 let test_table = t.subset(test);
-                let preds: Vec<f64> = test.iter().map(|&i| predict(kind, &params, &Row::of(t, i))).collect();
+                let preds: Vec<f64> = test
+                    .iter()
+                    .map(|&i| predict(kind, &params, &Row::of(t, i)))
+                    .collect();
                 let fold_loss = loss.of(&metrics(&test_table, kind, &params, None));
                 Ok((
-                    Fold { season: *season, train_rows: train.len(), test_rows: test.len(), params, loss: fold_loss },
+                    Fold {
+                        season: *season,
+                        train_rows: train.len(),
+                        test_rows: test.len(),
+                        params,
+                        loss: fold_loss,
+                    },
                     test.clone(),
                     preds,
                 ))

@@ -16,7 +16,9 @@ use crate::data::{Table, TeamSeason};
 use crate::error::FitError;
 
 /// What is drawn with replacement.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum, serde::Serialize, serde::Deserialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum, serde::Serialize, serde::Deserialize,
+)]
 #[serde(rename_all = "lowercase")]
 pub enum Resample {
     /// Team-seasons, independently.
@@ -35,6 +37,9 @@ pub struct Options {
     pub progress: bool,
 }
 
+/// A metric's name and how to read it.
+type MetricPick = (&'static str, fn(&Metrics) -> f64);
+
 /// The random stream of one resample.
 fn stream(seed: u64, b: usize) -> ChaCha8Rng {
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
@@ -43,7 +48,14 @@ fn stream(seed: u64, b: usize) -> ChaCha8Rng {
 }
 
 /// Row multiplicities of resample `b`.
-pub fn weights(n: usize, seasons: &[Vec<usize>], resample: Resample, seed: u64, b: usize, counts: &mut Vec<f64>) {
+pub fn weights(
+    n: usize,
+    seasons: &[Vec<usize>],
+    resample: Resample,
+    seed: u64,
+    b: usize,
+    counts: &mut Vec<f64>,
+) {
     counts.clear();
     counts.resize(n, 0.0);
     let mut rng = stream(seed, b);
@@ -90,19 +102,30 @@ fn sd(v: &[f64]) -> f64 {
 }
 
 /// Resample and refit `fit`'s model `opts.resamples` times.
-pub fn run(t: &Table, rows: &[TeamSeason], fit: &ModelFit, opts: &Options) -> Result<Intervals, FitError> {
+pub fn run(
+    t: &Table,
+    rows: &[TeamSeason],
+    fit: &ModelFit,
+    opts: &Options,
+) -> Result<Intervals, FitError> {
     if opts.resamples < 2 {
-        return Err(FitError::Invalid("--bootstrap needs at least 2 resamples".to_string()));
+        return Err(FitError::Invalid(
+            "--bootstrap needs at least 2 resamples".to_string(),
+        ));
     }
     let seasons = season_index(rows);
     if opts.resample == Resample::Season && seasons.len() < 2 {
-        return Err(FitError::Invalid("--resample season needs at least 2 seasons".to_string()));
+        return Err(FitError::Invalid(
+            "--resample season needs at least 2 seasons".to_string(),
+        ));
     }
     let bar = if opts.progress && std::io::stderr().is_terminal() {
         let pb = indicatif::ProgressBar::new(opts.resamples as u64);
         pb.set_style(
-            indicatif::ProgressStyle::with_template("bootstrap {bar:40} {pos}/{len} resamples, {eta} left")
-                .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+            indicatif::ProgressStyle::with_template(
+                "bootstrap {bar:40} {pos}/{len} resamples, {eta} left",
+            )
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
         );
         pb
     } else {
@@ -114,7 +137,12 @@ pub fn run(t: &Table, rows: &[TeamSeason], fit: &ModelFit, opts: &Options) -> Re
         .into_par_iter()
         .map_init(Vec::new, |counts, b| {
             weights(t.len(), &seasons, opts.resample, opts.seed, b, counts);
-            let p = Problem { table: t, kind, loss: fit.loss, counts: Some(counts) };
+            let p = Problem {
+                table: t,
+                kind,
+                loss: fit.loss,
+                counts: Some(counts),
+            };
             let out = solve::fit(p, Some(&start)).ok();
             bar.inc(1);
             out.filter(|o| o.params.iter().all(|v| v.is_finite()))
@@ -128,7 +156,11 @@ pub fn run(t: &Table, rows: &[TeamSeason], fit: &ModelFit, opts: &Options) -> Re
     let ok: Vec<&(Vec<f64>, Metrics)> = draws.iter().flatten().collect();
     let failed = draws.len() - ok.len();
     if ok.len() < 2 {
-        return Err(FitError::Invalid(format!("only {} of {} bootstrap resamples could be fitted", ok.len(), draws.len())));
+        return Err(FitError::Invalid(format!(
+            "only {} of {} bootstrap resamples could be fitted",
+            ok.len(),
+            draws.len()
+        )));
     }
     let alpha = (1.0 - opts.level) / 2.0;
     let interval = |mut v: Vec<f64>| {
@@ -143,7 +175,7 @@ pub fn run(t: &Table, rows: &[TeamSeason], fit: &ModelFit, opts: &Options) -> Re
         params.push(interval(v));
     }
     let mut metrics = BTreeMap::new();
-    let pick: [(&'static str, fn(&Metrics) -> f64); 4] = [
+    let pick: [MetricPick; 4] = [
         ("mae", |m| m.mae),
         ("rmse", |m| m.rmse),
         ("logloss", |m| m.logloss),

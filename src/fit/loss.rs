@@ -69,7 +69,13 @@ pub fn row_nll(wins: f64, losses: f64, p: f64) -> f64 {
 }
 
 /// The value of one loss. `counts` multiplies each row (bootstrap resamples); `None` means once each.
-pub fn loss_value(t: &Table, kind: ModelKind, params: &[f64], loss: Loss, counts: Option<&[f64]>) -> f64 {
+pub fn loss_value(
+    t: &Table,
+    kind: ModelKind,
+    params: &[f64],
+    loss: Loss,
+    counts: Option<&[f64]>,
+) -> f64 {
     let mut num = 0.0;
     let mut den = 0.0;
     for i in 0..t.len() {
@@ -146,5 +152,7 @@ fn metrics_with(t: &Table, counts: Option<&[f64]>, prediction: impl Fn(usize) ->
 
 /// Expected win% of every row.
 pub fn predictions(t: &Table, kind: ModelKind, params: &[f64]) -> Vec<f64> {
-    (0..t.len()).map(|i| predict(kind, params, &Row::of(t, i))).collect()
+    (0..t.len())
+        .map(|i| predict(kind, params, &Row::of(t, i)))
+        .collect()
 }

@@ -45,12 +45,19 @@ pub struct GroupBy {
 impl std::str::FromStr for GroupBy {
     type Err = String;
     fn from_str(s: &str) -> Result<Self, Self::Err> {
-        let mut g = GroupBy { season: false, league: false };
+        let mut g = GroupBy {
+            season: false,
+            league: false,
+        };
         for part in s.split(',') {
             match part.trim() {
                 "season" => g.season = true,
                 "league" => g.league = true,
-                other => return Err(format!("--by takes season, league or season,league; got '{other}'")),
+                other => {
+                    return Err(format!(
+                        "--by takes season, league or season,league; got '{other}'"
+                    ));
+                }
             }
         }
         Ok(g)
@@ -110,14 +117,23 @@ impl ModelFit {
 }
 
 /// Describe a model's performance on a table: metrics, runs per win, exponent range.
-pub fn describe(t: &Table, model: Model, loss: Loss, fitted: bool, iterations: u64, converged: bool) -> ModelFit {
+pub fn describe(
+    t: &Table,
+    model: Model,
+    loss: Loss,
+    fitted: bool,
+    iterations: u64,
+    converged: bool,
+) -> ModelFit {
     let metrics = loss::metrics(t, model.kind, &model.params, None);
     let average_rpg = t.average_rpg();
     let exponent_range = model.kind.has_exponent().then(|| {
-        t.rpg.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &r| {
-            let x = model.exponent_at(r).unwrap_or(f64::NAN);
-            (lo.min(x), hi.max(x))
-        })
+        t.rpg
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &r| {
+                let x = model.exponent_at(r).unwrap_or(f64::NAN);
+                (lo.min(x), hi.max(x))
+            })
     });
     let std_errors = if fitted && loss == Loss::Logloss {
         stderr::std_errors(t, model.kind, &model.params)
@@ -146,8 +162,23 @@ pub fn fit_model(t: &Table, kind: ModelKind, loss: Loss) -> Result<ModelFit, Fit
     if t.is_empty() {
         return Err(FitError::Invalid("no rows to fit".to_string()));
     }
-    let out = solve::fit(solve::Problem { table: t, kind, loss, counts: None }, None)?;
-    Ok(describe(t, Model::new(kind, out.params), loss, true, out.iterations, out.converged))
+    let out = solve::fit(
+        solve::Problem {
+            table: t,
+            kind,
+            loss,
+            counts: None,
+        },
+        None,
+    )?;
+    Ok(describe(
+        t,
+        Model::new(kind, out.params),
+        loss,
+        true,
+        out.iterations,
+        out.converged,
+    ))
 }
 
 /// Score a given model without fitting.
@@ -195,7 +226,10 @@ pub fn loss_curve(t: &Table, model: &Model, loss: Loss) -> crate::report::svg::L
     crate::report::svg::LossCurve {
         param: model.kind.param_names()[0].to_string(),
         loss: loss.name().to_string(),
-        optimum: (centre, loss::loss_value(t, model.kind, &model.params, loss, None)),
+        optimum: (
+            centre,
+            loss::loss_value(t, model.kind, &model.params, loss, None),
+        ),
         points,
     }
 }

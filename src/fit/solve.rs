@@ -2,7 +2,9 @@
 //! bracket found automatically; the two-parameter model uses Nelder–Mead. The Pythagorean log-loss
 //! (a logistic regression without intercept, convex in the exponent) takes Newton steps first.
 
-use argmin::core::{CostFunction, Error as ArgminError, Executor, State, TerminationReason, TerminationStatus};
+use argmin::core::{
+    CostFunction, Error as ArgminError, Executor, State, TerminationReason, TerminationStatus,
+};
 use argmin::solver::brent::BrentOpt;
 use argmin::solver::neldermead::NelderMead;
 
@@ -81,10 +83,11 @@ pub fn fit(p: Problem<'_>, start: Option<&[f64]>) -> Result<Outcome, FitError> {
 fn fit_one(p: Problem<'_>, start: f64) -> Result<Outcome, FitError> {
     let problem = LogScale(p);
     let f = |u: f64| p.value(&[u.exp()]);
-    let (lo, hi, evals) = bracket(&f, start.max(1e-3).ln()).map_err(|reason| FitError::NoMinimum {
-        model: p.kind.name().to_string(),
-        reason,
-    })?;
+    let (lo, hi, evals) =
+        bracket(&f, start.max(1e-3).ln()).map_err(|reason| FitError::NoMinimum {
+            model: p.kind.name().to_string(),
+            reason,
+        })?;
     let res = Executor::new(problem, BrentOpt::new(lo, hi).set_tolerance(1e-11, 1e-13))
         .configure(|s| s.max_iters(200))
         .run()
@@ -177,12 +180,12 @@ pub fn newton_pythagorean(p: Problem<'_>, x0: f64) -> Option<Outcome> {
             grad += (c * t.wins[i] - n * q) * l;
             hess += n * q * (1.0 - q) * l * l;
         }
-        if !(hess > 0.0) || !grad.is_finite() {
+        if hess.is_nan() || hess <= 0.0 || !grad.is_finite() {
             return None;
         }
         let step = grad / hess;
         x += step;
-        if !(x > 0.0) || !x.is_finite() {
+        if !x.is_finite() || x <= 0.0 {
             return None;
         }
         if step.abs() <= 1e-12 * x.abs().max(1.0) {

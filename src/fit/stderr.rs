@@ -64,7 +64,13 @@ pub fn std_errors(t: &Table, kind: ModelKind, params: &[f64]) -> Option<StdError
 
 fn total_nll(t: &Table, kind: ModelKind, params: &[f64]) -> f64 {
     (0..t.len())
-        .map(|i| row_nll(t.wins[i], t.losses[i], predict(kind, params, &Row::of(t, i))))
+        .map(|i| {
+            row_nll(
+                t.wins[i],
+                t.losses[i],
+                predict(kind, params, &Row::of(t, i)),
+            )
+        })
         .sum()
 }
 
@@ -93,7 +99,8 @@ fn numeric_std_errors(t: &Table, kind: ModelKind, params: &[f64]) -> Option<Vec<
                     d[j] = sj * h[j];
                     f(&d)
                 };
-                (at(1.0, 1.0) - at(1.0, -1.0) - at(-1.0, 1.0) + at(-1.0, -1.0)) / (4.0 * h[i] * h[j])
+                (at(1.0, 1.0) - at(1.0, -1.0) - at(-1.0, 1.0) + at(-1.0, -1.0))
+                    / (4.0 * h[i] * h[j])
             };
             hess[i][j] = v;
             hess[j][i] = v;
@@ -103,7 +110,7 @@ fn numeric_std_errors(t: &Table, kind: ModelKind, params: &[f64]) -> Option<Vec<
         1 => vec![1.0 / hess[0][0]],
         2 => {
             let det = hess[0][0] * hess[1][1] - hess[0][1] * hess[1][0];
-            if !(det > 0.0) {
+            if det.is_nan() || det <= 0.0 {
                 return None;
             }
             vec![hess[1][1] / det, hess[0][0] / det]

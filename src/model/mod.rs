@@ -5,7 +5,9 @@ use std::fmt;
 use crate::data::Table;
 
 /// A win-expectation formula.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, serde::Serialize, serde::Deserialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, serde::Serialize, serde::Deserialize,
+)]
 #[serde(rename_all = "lowercase")]
 pub enum ModelKind {
     /// RS^x / (RS^x + RA^x) (Pythagorean expectation).

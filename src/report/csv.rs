@@ -23,7 +23,8 @@ pub fn cell(v: Option<f64>) -> String {
 }
 
 pub fn finish(w: csv::Writer<Vec<u8>>) -> Result<Vec<u8>, Error> {
-    w.into_inner().map_err(|e| Error::Usage(format!("csv output: {e}")))
+    w.into_inner()
+        .map_err(|e| Error::Usage(format!("csv output: {e}")))
 }
 
 pub fn write_err(e: csv::Error) -> Error {
@@ -33,11 +34,28 @@ pub fn write_err(e: csv::Error) -> Error {
 pub fn fit(r: &FitReport) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record([
-        "season", "league", "team", "games", "wins", "losses", "ties", "runs_scored", "runs_allowed", "win_pct",
-        "model", "exponent", "expected_win_pct", "expected_wins", "luck_wins",
+        "season",
+        "league",
+        "team",
+        "games",
+        "wins",
+        "losses",
+        "ties",
+        "runs_scored",
+        "runs_allowed",
+        "win_pct",
+        "model",
+        "exponent",
+        "expected_win_pct",
+        "expected_wins",
+        "luck_wins",
     ])
     .map_err(write_err)?;
-    let model = r.primary.as_ref().map(|m| m.kind.name()).unwrap_or_default();
+    let model = r
+        .primary
+        .as_ref()
+        .map(|m| m.kind.name())
+        .unwrap_or_default();
     for t in &r.teams {
         w.write_record([
             t.season.to_string(),
@@ -61,26 +79,30 @@ pub fn fit(r: &FitReport) -> Result<Vec<u8>, Error> {
     finish(w)
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn formula_like_text_is_quoted() {
-        assert_eq!(safe("=HYPERLINK(\"x\")"), "'=HYPERLINK(\"x\")");
-        assert_eq!(safe("+1"), "'+1");
-        assert_eq!(safe("-Team"), "'-Team");
-        assert_eq!(safe("@SUM"), "'@SUM");
-        assert_eq!(safe("Harbor Gulls"), "Harbor Gulls");
-    }
-}
-
 pub fn luck(r: &super::LuckReport) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record([
-        "season", "league", "team", "games", "wins", "losses", "ties", "runs_scored", "runs_allowed", "win_pct",
-        "expected_win_pct", "expected_wins", "luck_wins", "luck_z", "luck_p", "one_run_wins", "one_run_losses",
-        "remaining_games", "projected_wins", "projected_low_80", "projected_high_80",
+        "season",
+        "league",
+        "team",
+        "games",
+        "wins",
+        "losses",
+        "ties",
+        "runs_scored",
+        "runs_allowed",
+        "win_pct",
+        "expected_win_pct",
+        "expected_wins",
+        "luck_wins",
+        "luck_z",
+        "luck_p",
+        "one_run_wins",
+        "one_run_losses",
+        "remaining_games",
+        "projected_wins",
+        "projected_low_80",
+        "projected_high_80",
     ])
     .map_err(write_err)?;
     let count = |v: Option<u64>| v.map(|x| x.to_string()).unwrap_or_default();
@@ -117,7 +139,8 @@ pub fn luck(r: &super::LuckReport) -> Result<Vec<u8>, Error> {
 
 pub fn backtest(r: &super::BacktestReport) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(["rank", "model", "fitted", "mae", "rmse", "logloss", "folds"]).map_err(write_err)?;
+    w.write_record(["rank", "model", "fitted", "mae", "rmse", "logloss", "folds"])
+        .map_err(write_err)?;
     for (i, s) in r.scores.iter().enumerate() {
         let fitted = matches!(s.candidate, crate::fit::backtest::Candidate::Fit(_));
         w.write_record([
@@ -136,7 +159,8 @@ pub fn backtest(r: &super::BacktestReport) -> Result<Vec<u8>, Error> {
 
 pub fn check(r: &super::CheckReport) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(["rule", "threshold", "value", "passed", "detail"]).map_err(write_err)?;
+    w.write_record(["rule", "threshold", "value", "passed", "detail"])
+        .map_err(write_err)?;
     for x in &r.rules {
         w.write_record([
             x.rule.clone(),
@@ -148,4 +172,18 @@ pub fn check(r: &super::CheckReport) -> Result<Vec<u8>, Error> {
         .map_err(write_err)?;
     }
     finish(w)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn formula_like_text_is_quoted() {
+        assert_eq!(safe("=HYPERLINK(\"x\")"), "'=HYPERLINK(\"x\")");
+        assert_eq!(safe("+1"), "'+1");
+        assert_eq!(safe("-Team"), "'-Team");
+        assert_eq!(safe("@SUM"), "'@SUM");
+        assert_eq!(safe("Harbor Gulls"), "Harbor Gulls");
+    }
 }

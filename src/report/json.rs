@@ -30,7 +30,10 @@ pub fn model_fit(f: &ModelFit) -> Value {
     let mut o = Map::new();
     o.insert("model".into(), json!(f.model.kind.name()));
     o.insert("loss".into(), json!(f.loss.name()));
-    o.insert("group".into(), f.group.as_ref().map_or(Value::Null, |g| json!(g)));
+    o.insert(
+        "group".into(),
+        f.group.as_ref().map_or(Value::Null, |g| json!(g)),
+    );
     o.insert("fitted".into(), json!(f.fitted));
     o.insert("rows".into(), json!(f.rows));
     o.insert("params".into(), named(names, &f.model.params));
@@ -71,7 +74,8 @@ pub fn model_fit(f: &ModelFit) -> Value {
     o.insert("average_rpg".into(), number(f.average_rpg));
     o.insert(
         "exponent_range".into(),
-        f.exponent_range.map_or(Value::Null, |(lo, hi)| json!([number(lo), number(hi)])),
+        f.exponent_range
+            .map_or(Value::Null, |(lo, hi)| json!([number(lo), number(hi)])),
     );
     o.insert("iterations".into(), json!(f.iterations));
     o.insert("converged".into(), json!(f.converged));

@@ -21,7 +21,8 @@ pub fn render(report: &dyn Report, format: Format) -> Result<Vec<u8>, Error> {
     Ok(match format {
         Format::Table => report.table().into_bytes(),
         Format::Json => {
-            let mut s = serde_json::to_string_pretty(&report.json()).map_err(|e| Error::Usage(e.to_string()))?;
+            let mut s = serde_json::to_string_pretty(&report.json())
+                .map_err(|e| Error::Usage(e.to_string()))?;
             s.push('\n');
             s.into_bytes()
         }
@@ -33,7 +34,11 @@ pub use crate::luck::TeamLine;
 
 /// Records as "W-L" or "W-L-T".
 pub fn record(w: u64, l: u64, t: u64) -> String {
-    if t > 0 { format!("{w}-{l}-{t}") } else { format!("{w}-{l}") }
+    if t > 0 {
+        format!("{w}-{l}-{t}")
+    } else {
+        format!("{w}-{l}")
+    }
 }
 
 /// Win% the way the trade writes it: .543 (1.000 for perfect records).
@@ -44,12 +49,20 @@ pub fn pct(p: f64) -> String {
 
 /// A number with a fixed count of significant decimals, `-` for non-finite values.
 pub fn num(v: f64, decimals: usize) -> String {
-    if v.is_finite() { format!("{v:.decimals$}") } else { "-".to_string() }
+    if v.is_finite() {
+        format!("{v:.decimals$}")
+    } else {
+        "-".to_string()
+    }
 }
 
 /// Signed with an explicit +.
 pub fn signed(v: f64, decimals: usize) -> String {
-    if v.is_finite() { format!("{v:+.decimals$}") } else { "-".to_string() }
+    if v.is_finite() {
+        format!("{v:+.decimals$}")
+    } else {
+        "-".to_string()
+    }
 }
 
 /// The result of `runcal fit`.

@@ -20,7 +20,13 @@ pub fn new_table(header: &[&str], text_cols: usize) -> Table {
 
 /// A model and its values, short: `pythagorean, exponent 1.9273`.
 pub fn model_label(m: &crate::model::Model) -> String {
-    let p: Vec<String> = m.kind.param_names().iter().zip(&m.params).map(|(n, v)| format!("{n} {v:.4}")).collect();
+    let p: Vec<String> = m
+        .kind
+        .param_names()
+        .iter()
+        .zip(&m.params)
+        .map(|(n, v)| format!("{n} {v:.4}"))
+        .collect();
     format!("{}, {}", m.kind, p.join(", "))
 }
 
@@ -56,7 +62,12 @@ fn uncertainty(f: &ModelFit) -> Vec<String> {
             ));
         }
         if !parts.is_empty() {
-            lines.push(format!("  {} {name} = {:.4}: {}", f.model.kind, f.model.params[i], parts.join("; ")));
+            lines.push(format!(
+                "  {} {name} = {:.4}: {}",
+                f.model.kind,
+                f.model.params[i],
+                parts.join("; ")
+            ));
         }
     }
     lines
@@ -71,7 +82,16 @@ fn exponent_range(f: &ModelFit) -> String {
 
 pub fn fit(r: &FitReport) -> String {
     let mut out = String::new();
-    let seasons = r.seasons.map(|(a, b)| if a == b { format!(", season {a}") } else { format!(", seasons {a}–{b}") }).unwrap_or_default();
+    let seasons = r
+        .seasons
+        .map(|(a, b)| {
+            if a == b {
+                format!(", season {a}")
+            } else {
+                format!(", seasons {a}–{b}")
+            }
+        })
+        .unwrap_or_default();
     out.push_str(&format!(
         "runcal fit: {} team-seasons used, {} rejected{seasons}; ranked by {}\n",
         r.rows_used,
@@ -83,13 +103,16 @@ pub fn fit(r: &FitReport) -> String {
     } else {
         out.push_str(&comparison(r));
     }
-    for f in r.fits.iter().filter(|f| f.fitted) {
+    for f in r.fits.iter().filter(|f| f.fitted && !r.grouped) {
         for line in uncertainty(f) {
             out.push_str(&line);
             out.push('\n');
         }
         if !f.converged {
-            out.push_str(&format!("  warning: {} did not report convergence after {} iterations\n", f.model.kind, f.iterations));
+            out.push_str(&format!(
+                "  warning: {} did not report convergence after {} iterations\n",
+                f.model.kind, f.iterations
+            ));
         }
     }
     if let Some(model) = &r.primary
@@ -104,16 +127,38 @@ pub fn fit(r: &FitReport) -> String {
 fn comparison(r: &FitReport) -> String {
     let loss = r.loss.name();
     let header = [
-        "rank", "model", "parameters", "status", "params fitted", "logloss", "mae", "rmse", "rmse (wins)", "bias",
-        "runs/win", "exponent range",
+        "rank",
+        "model",
+        "parameters",
+        "status",
+        "params fitted",
+        "logloss",
+        "mae",
+        "rmse",
+        "rmse (wins)",
+        "bias",
+        "runs/win",
+        "exponent range",
     ];
     let mut t = new_table(&header, 4);
-    let best = r.fits.iter().map(|f| f.loss_value()).fold(f64::INFINITY, f64::min);
+    let best = r
+        .fits
+        .iter()
+        .map(|f| f.loss_value())
+        .fold(f64::INFINITY, f64::min);
     let mut ranked: Vec<&ModelFit> = r.fits.iter().collect();
     ranked.sort_by(|a, b| a.loss_value().total_cmp(&b.loss_value()));
     for (i, f) in ranked.iter().enumerate() {
-        let status = if f.fitted { "fitted".to_string() } else { "reference".to_string() };
-        let k = if f.fitted { f.model.params.len().to_string() } else { "0".to_string() };
+        let status = if f.fitted {
+            "fitted".to_string()
+        } else {
+            "reference".to_string()
+        };
+        let k = if f.fitted {
+            f.model.params.len().to_string()
+        } else {
+            "0".to_string()
+        };
         t.add_row(vec![
             (i + 1).to_string(),
             f.model.kind.to_string(),
@@ -147,18 +192,44 @@ fn comparison(r: &FitReport) -> String {
 }
 
 fn grouped(r: &FitReport) -> String {
-    let header = ["group", "model", "parameters", "team-seasons", "logloss", "mae", "rmse", "runs/win", "note"];
+    let header = [
+        "group",
+        "model",
+        "parameters",
+        "std. error",
+        "team-seasons",
+        "logloss",
+        "mae",
+        "rmse",
+        "runs/win",
+        "note",
+    ];
     let mut t = new_table(&header, 3);
     let mut rows: Vec<(String, Vec<String>)> = Vec::new();
     for f in &r.fits {
-        let g = f.group.as_ref().map(ToString::to_string).unwrap_or_else(|| "all".into());
-        let note = if f.converged { String::new() } else { "not converged".to_string() };
+        let g = f
+            .group
+            .as_ref()
+            .map(ToString::to_string)
+            .unwrap_or_else(|| "all".into());
+        let note = if f.converged {
+            String::new()
+        } else {
+            "not converged".to_string()
+        };
         rows.push((
             g.clone(),
             vec![
                 g,
                 f.model.kind.to_string(),
                 params(f),
+                f.std_errors.as_ref().map_or("-".to_string(), |se| {
+                    se.corrected
+                        .iter()
+                        .map(|v| format!("{v:.4}"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                }),
                 f.rows.to_string(),
                 num(f.metrics.logloss, 6),
                 num(f.metrics.mae, 5),
@@ -172,7 +243,18 @@ fn grouped(r: &FitReport) -> String {
         let name = g.to_string();
         rows.push((
             name.clone(),
-            vec![name, "-".into(), "-".into(), n.to_string(), "-".into(), "-".into(), "-".into(), "-".into(), "too small to fit".into()],
+            vec![
+                name,
+                "-".into(),
+                "-".into(),
+                "-".into(),
+                n.to_string(),
+                "-".into(),
+                "-".into(),
+                "-".into(),
+                "-".into(),
+                "too small to fit".into(),
+            ],
         ));
     }
     rows.sort_by(|a, b| a.0.cmp(&b.0));
@@ -194,10 +276,22 @@ pub fn performers(teams: &[TeamLine], top: usize, model: &str) -> String {
     });
     let n = top.min(sorted.len());
     let mut s = String::new();
-    let header = ["season", "league", "team", "record", "win%", "expected win%", "expected wins", "wins over expected"];
+    let header = [
+        "season",
+        "league",
+        "team",
+        "record",
+        "win%",
+        "expected win%",
+        "expected wins",
+        "wins over expected",
+    ];
     for (title, slice) in [
         ("Most wins above their scoring", sorted[..n].to_vec()),
-        ("Most wins below their scoring", sorted.iter().rev().take(n).copied().collect::<Vec<_>>()),
+        (
+            "Most wins below their scoring",
+            sorted.iter().rev().take(n).copied().collect::<Vec<_>>(),
+        ),
     ] {
         let mut t = new_table(&header, 3);
         for line in slice {
@@ -246,8 +340,20 @@ pub fn luck(r: &super::LuckReport) -> String {
     let with_one_run = r.teams.iter().any(|l| l.one_run.is_some());
     let with_projection = r.teams.iter().any(|l| l.projection.is_some());
     let mut header = vec![
-        "season", "league", "team", "games", "record", "runs", "runs allowed", "win%", "expected", "expected wins",
-        "wins over expected", "z", "p", "signal",
+        "season",
+        "league",
+        "team",
+        "games",
+        "record",
+        "runs",
+        "runs allowed",
+        "win%",
+        "expected",
+        "expected wins",
+        "wins over expected",
+        "z",
+        "p",
+        "signal",
     ];
     if with_one_run {
         header.push("one-run record");
@@ -316,7 +422,18 @@ pub fn backtest(r: &super::BacktestReport) -> String {
         r.scheme.name(),
         r.loss.name()
     );
-    let mut t = new_table(&["rank", "model", "status", "held-out seasons", "logloss", "mae", "rmse"], 3);
+    let mut t = new_table(
+        &[
+            "rank",
+            "model",
+            "status",
+            "held-out seasons",
+            "logloss",
+            "mae",
+            "rmse",
+        ],
+        3,
+    );
     for (i, s) in r.scores.iter().enumerate() {
         let status = match s.candidate {
             crate::fit::backtest::Candidate::Fit(_) => "refitted per fold",
@@ -351,13 +468,20 @@ pub fn check(r: &super::CheckReport) -> String {
         "runcal check: {} team-seasons ({} rejected) against {}\n",
         r.rows_used, r.rows_rejected, r.profile
     );
-    let mut t = new_table(&["rule", "threshold", "value", "result", "what was measured"], 1);
+    let mut t = new_table(
+        &["rule", "threshold", "value", "result", "what was measured"],
+        1,
+    );
     for x in &r.rules {
         t.add_row(vec![
             x.rule.clone(),
             format!("{}", x.threshold),
             num(x.value, 4),
-            if x.passed { "pass".to_string() } else { "FAIL".to_string() },
+            if x.passed {
+                "pass".to_string()
+            } else {
+                "FAIL".to_string()
+            },
             x.detail.clone(),
         ]);
     }
