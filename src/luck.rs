@@ -1,7 +1,5 @@
 //! Expected wins, luck in wins and in binomial z, regression to the mean, rest-of-season projections.
 
-use statrs::distribution::{ContinuousCDF, Normal};
-
 use crate::data::{Table, TeamSeason};
 use crate::model::{Model, Row, predict};
 
@@ -65,10 +63,9 @@ pub fn luck_z(wins: f64, decisions: f64, p: f64) -> Option<f64> {
     (var > 0.0).then(|| (wins - decisions * p) / var.sqrt())
 }
 
-/// Two-sided normal p-value of a z-score.
+/// Two-sided normal p-value of a z-score: 2·(1 − Φ(|z|)) = erfc(|z|/√2).
 pub fn two_sided_p(z: f64) -> f64 {
-    let normal = Normal::standard();
-    2.0 * normal.sf(z.abs())
+    statrs::function::erf::erfc(z.abs() / std::f64::consts::SQRT_2)
 }
 
 /// Games of regression to .500 by the usual variance split of the table's win%:

@@ -26,26 +26,53 @@ pub fn check_not_input(output: &str, inputs: &[&str]) -> Result<(), Error> {
     Ok(())
 }
 
-/// Write `bytes` to `path` atomically: readers see the old file or the new one, never a part.
-pub fn write_atomic(path: &str, bytes: &[u8]) -> Result<(), Error> {
+/// A temporary file in the directory of `path`, to be filled and then [`commit`]ted.
+pub fn temp_beside(path: &str) -> Result<tempfile::NamedTempFile, Error> {
     let target = PathBuf::from(path);
     let dir = match target.parent() {
         Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
         _ => PathBuf::from("."),
     };
-    let wrap = |source: std::io::Error| Error::Write {
-        file: path.to_string(),
-        source,
-    };
-    let mut tmp = tempfile::Builder::new()
+    tempfile::Builder::new()
         .prefix(".runcal-")
         .suffix(".tmp")
         .tempfile_in(&dir)
-        .map_err(wrap)?;
-    tmp.write_all(bytes).map_err(wrap)?;
+        .map_err(|source| Error::Write { file: path.to_string(), source })
+}
+
+/// Move a finished temporary file onto `path`. The file keeps the permissions of the file it
+/// replaces, or gets the usual rw-r--r-- (a temporary file starts private).
+pub fn commit(tmp: tempfile::NamedTempFile, path: &str) -> Result<(), Error> {
+    let wrap = |source: std::io::Error| Error::Write { file: path.to_string(), source };
     tmp.as_file().sync_all().map_err(wrap)?;
-    tmp.persist(&target).map_err(|e| wrap(e.error))?;
+    let perms = match std::fs::metadata(path) {
+        Ok(m) => m.permissions(),
+        Err(_) => default_permissions(tmp.as_file())?,
+    };
+    tmp.as_file().set_permissions(perms).map_err(wrap)?;
+    tmp.persist(path).map_err(|e| wrap(e.error))?;
     Ok(())
+}
+
+#[cfg(unix)]
+fn default_permissions(_: &std::fs::File) -> Result<std::fs::Permissions, Error> {
+    use std::os::unix::fs::PermissionsExt;
+    Ok(std::fs::Permissions::from_mode(0o644))
+}
+
+#[cfg(not(unix))]
+fn default_permissions(f: &std::fs::File) -> Result<std::fs::Permissions, Error> {
+    f.metadata()
+        .map(|m| m.permissions())
+        .map_err(|source| Error::Write { file: "<temporary file>".to_string(), source })
+}
+
+/// Write `bytes` to `path` atomically: readers see the old file or the new one, never a part.
+pub fn write_atomic(path: &str, bytes: &[u8]) -> Result<(), Error> {
+    let mut tmp = temp_beside(path)?;
+    tmp.write_all(bytes)
+        .map_err(|source| Error::Write { file: path.to_string(), source })?;
+    commit(tmp, path)
 }
 
 /// Send a rendered result to its destination.

@@ -100,22 +100,11 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     match &args.out {
         Some(path) => {
             // Streamed into a temporary file beside the target, renamed into place only when complete.
-            let dir = match std::path::Path::new(path).parent() {
-                Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-                _ => std::path::PathBuf::from("."),
-            };
-            let tmp = tempfile::Builder::new()
-                .prefix(".runcal-")
-                .suffix(".tmp")
-                .tempfile_in(dir)
-                .map_err(write_err(path))?;
+            let tmp = crate::output::temp_beside(path)?;
             let mut w = std::io::BufWriter::with_capacity(1 << 20, tmp);
             write_league(&mut w, &design, args, path)?;
-            let tmp = w
-                .into_inner()
-                .map_err(|e| write_err(path)(e.into_error()))?;
-            tmp.as_file().sync_all().map_err(write_err(path))?;
-            tmp.persist(path).map_err(|e| write_err(path)(e.error))?;
+            let tmp = w.into_inner().map_err(|e| write_err(path)(e.into_error()))?;
+            crate::output::commit(tmp, path)?;
             if !args.quiet {
                 eprintln!("note: wrote {path}");
             }

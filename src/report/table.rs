@@ -18,6 +18,32 @@ pub fn new_table(header: &[&str], text_cols: usize) -> Table {
     t
 }
 
+/// A table from named columns: `left` columns are left-aligned, and a column named in `fold` whose
+/// cells are all equal is left out and returned as (name, value) for the caption.
+pub fn folded_table(header: &[&str], rows: &[Vec<String>], left: &[&str], fold: &[&str]) -> (Table, Vec<(String, String)>) {
+    let keep: Vec<usize> = (0..header.len())
+        .filter(|&c| {
+            !(fold.contains(&header[c]) && !rows.is_empty() && rows.iter().all(|r| r[c] == rows[0][c]))
+        })
+        .collect();
+    let folded = (0..header.len())
+        .filter(|c| !keep.contains(c))
+        .map(|c| (header[c].to_string(), rows[0][c].clone()))
+        .collect();
+    let mut t = Table::new();
+    t.load_style(presets::UTF8_FULL_CONDENSED.with_rounded_corners())
+        .set_header(keep.iter().map(|&c| header[c]));
+    for r in rows {
+        t.add_row(keep.iter().map(|&c| r[c].clone()));
+    }
+    for (i, col) in t.column_iter_mut().enumerate() {
+        if !left.contains(&header[keep[i]]) {
+            col.set_cell_alignment(CellAlignment::Right);
+        }
+    }
+    (t, folded)
+}
+
 /// A model and its values, short: `pythagorean, exponent 1.9273`.
 pub fn model_label(m: &crate::model::Model) -> String {
     let p: Vec<String> = m
@@ -176,6 +202,7 @@ fn comparison(r: &FitReport) -> String {
     }
     let mut s = t.to_string();
     s.push('\n');
+    s.push_str("in-sample ranking; `runcal backtest` compares models on seasons they were not fitted to\n");
     if ranked.len() > 1 {
         let first = ranked[0];
         let second = ranked[1];
@@ -293,19 +320,22 @@ pub fn performers(teams: &[TeamLine], top: usize, model: &str) -> String {
             sorted.iter().rev().take(n).copied().collect::<Vec<_>>(),
         ),
     ] {
-        let mut t = new_table(&header, 3);
-        for line in slice {
-            t.add_row(vec![
-                line.season.to_string(),
-                line.league.clone().unwrap_or_else(|| "-".into()),
-                line.team.clone(),
-                record(line.wins, line.losses, line.ties),
-                pct(line.win_pct),
-                pct(line.expected_win_pct),
-                num(line.expected_wins, 1),
-                signed(line.luck_wins, 1),
-            ]);
-        }
+        let rows: Vec<Vec<String>> = slice
+            .iter()
+            .map(|line| {
+                vec![
+                    line.season.to_string(),
+                    line.league.clone().unwrap_or_else(|| "-".into()),
+                    line.team.clone(),
+                    record(line.wins, line.losses, line.ties),
+                    pct(line.win_pct),
+                    pct(line.expected_win_pct),
+                    num(line.expected_wins, 1),
+                    signed(line.luck_wins, 1),
+                ]
+            })
+            .collect();
+        let (t, _) = folded_table(&header, &rows, &["season", "league", "team"], &["league"]);
         s.push_str(&format!("\n{title} ({model}):\n{t}\n"));
     }
     s
@@ -361,7 +391,7 @@ pub fn luck(r: &super::LuckReport) -> String {
     if with_projection {
         header.extend(["projected wins", "80% range"]);
     }
-    let mut t = new_table(&header, 3);
+    let mut rows = Vec::new();
     for l in &r.teams {
         let line = &l.line;
         let signal = match l.luck_z {
@@ -397,7 +427,11 @@ pub fn luck(r: &super::LuckReport) -> String {
                 None => row.extend(["-".to_string(), "-".to_string()]),
             }
         }
-        t.add_row(row);
+        rows.push(row);
+    }
+    let (t, folded) = folded_table(&header, &rows, &["season", "league", "team", "signal"], &["season", "league"]);
+    for (name, value) in folded {
+        out.push_str(&format!("{name}: {value}\n"));
     }
     out.push_str(&t.to_string());
     out.push('\n');

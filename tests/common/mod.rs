@@ -1,0 +1,50 @@
+//! Shared helpers for the integration tests.
+#![allow(dead_code)]
+
+use std::path::PathBuf;
+
+use runcal::data::{self, Dataset, LoadOptions, SeasonRange, Table, TiePolicy, Weighting};
+
+pub fn repo() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// The Baseball Databank Teams table (CC BY-SA 3.0), trimmed by tests/reference/extract_databank.py.
+pub fn databank_path() -> String {
+    repo().join("tests/data/databank-teams.csv").display().to_string()
+}
+
+/// The `--map` options the Databank's headers need.
+pub const DATABANK_MAPS: [&str; 4] = ["season=yearID", "league=lgID", "team=teamID", "runs_scored=R"];
+
+pub fn databank(seasons: Option<&str>) -> Dataset {
+    let opts = LoadOptions {
+        maps: DATABANK_MAPS.iter().map(|m| m.parse().unwrap()).collect(),
+        seasons: seasons.map(|s| s.parse::<SeasonRange>().unwrap()),
+        ..LoadOptions::default()
+    };
+    data::load(&[databank_path()], false, None, &opts).unwrap()
+}
+
+pub fn table(ds: &Dataset, weighting: Weighting) -> Table {
+    Table::new(&ds.rows, TiePolicy::Half, weighting)
+}
+
+/// Values computed by tests/reference/reference.py with scipy and statsmodels.
+pub fn reference() -> serde_json::Value {
+    let text = std::fs::read_to_string(repo().join("tests/reference/reference_values.json")).unwrap();
+    serde_json::from_str(&text).unwrap()
+}
+
+pub fn f(v: &serde_json::Value) -> f64 {
+    v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"))
+}
+
+#[track_caller]
+pub fn close(actual: f64, expected: f64, tol: f64, what: &str) {
+    assert!(
+        (actual - expected).abs() <= tol,
+        "{what}: {actual} differs from {expected} by {:e} (tolerance {tol:e})",
+        (actual - expected).abs()
+    );
+}
