@@ -37,13 +37,19 @@ pub fn temp_beside(path: &str) -> Result<tempfile::NamedTempFile, Error> {
         .prefix(".runcal-")
         .suffix(".tmp")
         .tempfile_in(&dir)
-        .map_err(|source| Error::Write { file: path.to_string(), source })
+        .map_err(|source| Error::Write {
+            file: path.to_string(),
+            source,
+        })
 }
 
 /// Move a finished temporary file onto `path`. The file keeps the permissions of the file it
 /// replaces, or gets the usual rw-r--r-- (a temporary file starts private).
 pub fn commit(tmp: tempfile::NamedTempFile, path: &str) -> Result<(), Error> {
-    let wrap = |source: std::io::Error| Error::Write { file: path.to_string(), source };
+    let wrap = |source: std::io::Error| Error::Write {
+        file: path.to_string(),
+        source,
+    };
     tmp.as_file().sync_all().map_err(wrap)?;
     let perms = match std::fs::metadata(path) {
         Ok(m) => m.permissions(),
@@ -64,14 +70,19 @@ fn default_permissions(_: &std::fs::File) -> Result<std::fs::Permissions, Error>
 fn default_permissions(f: &std::fs::File) -> Result<std::fs::Permissions, Error> {
     f.metadata()
         .map(|m| m.permissions())
-        .map_err(|source| Error::Write { file: "<temporary file>".to_string(), source })
+        .map_err(|source| Error::Write {
+            file: "<temporary file>".to_string(),
+            source,
+        })
 }
 
 /// Write `bytes` to `path` atomically: readers see the old file or the new one, never a part.
 pub fn write_atomic(path: &str, bytes: &[u8]) -> Result<(), Error> {
     let mut tmp = temp_beside(path)?;
-    tmp.write_all(bytes)
-        .map_err(|source| Error::Write { file: path.to_string(), source })?;
+    tmp.write_all(bytes).map_err(|source| Error::Write {
+        file: path.to_string(),
+        source,
+    })?;
     commit(tmp, path)
 }
 

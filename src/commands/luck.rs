@@ -38,6 +38,9 @@ pub struct Args {
     /// Show only the N teams most ahead of and the N most behind their scoring.
     #[arg(long, value_name = "N")]
     pub top: Option<usize>,
+    /// Apply this Pythagorean exponent instead of a profile or a fit.
+    #[arg(long, value_name = "X", conflicts_with = "profile")]
+    pub exponent: Option<f64>,
     /// Without a profile: the model to fit on the given data.
     #[arg(long, default_value = "pythagorean", value_name = "M")]
     pub model: String,
@@ -62,8 +65,19 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         };
     }
     let (ds, table) = super::load(&input, args.as_of, &diag)?;
-    let (model, source) = match (&profile, &args.profile) {
-        (Some(p), Some(path)) => (p.model(), ModelSource::Profile(path.clone())),
+    let (model, source) = match (&profile, &args.profile, args.exponent) {
+        (Some(p), Some(path), _) => (p.model(), ModelSource::Profile(path.clone())),
+        (_, _, Some(x)) => {
+            if !(x.is_finite() && x > 0.0) {
+                return Err(Error::Usage(format!(
+                    "--exponent must be a positive number, got {x}"
+                )));
+            }
+            (
+                crate::model::Model::new(crate::model::ModelKind::Pythagorean, vec![x]),
+                ModelSource::Given,
+            )
+        }
         _ => {
             let kinds = super::parse_models(&args.model)?;
             let kind = *kinds

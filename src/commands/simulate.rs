@@ -103,7 +103,9 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             let tmp = crate::output::temp_beside(path)?;
             let mut w = std::io::BufWriter::with_capacity(1 << 20, tmp);
             write_league(&mut w, &design, args, path)?;
-            let tmp = w.into_inner().map_err(|e| write_err(path)(e.into_error()))?;
+            let tmp = w
+                .into_inner()
+                .map_err(|e| write_err(path)(e.into_error()))?;
             crate::output::commit(tmp, path)?;
             if !args.quiet {
                 eprintln!("note: wrote {path}");

@@ -231,8 +231,22 @@ pub fn load(
             acc.wins += rec.wins;
             acc.losses += rec.losses;
             acc.ties += rec.ties;
-            acc.runs_scored += rec.runs_scored;
-            acc.runs_allowed += rec.runs_allowed;
+            let (Some(scored), Some(allowed)) = (
+                acc.runs_scored.checked_add(rec.runs_scored),
+                acc.runs_allowed.checked_add(rec.runs_allowed),
+            ) else {
+                return Err(DataError::Rejected(Rejection {
+                    at: Location {
+                        file: file.clone(),
+                        line: Some(rec.first_line),
+                        column: None,
+                    },
+                    reason: "the season's run totals over all files are too large to count"
+                        .to_string(),
+                }));
+            };
+            acc.runs_scored = scored;
+            acc.runs_allowed = allowed;
             acc.one_run_wins += rec.one_run_wins;
             acc.one_run_losses += rec.one_run_losses;
         }
@@ -321,17 +335,14 @@ fn aggregate(
         }
     };
     loop {
-        match rdr.read_byte_record(&mut record) {
+        let start = rdr.position().line();
+        let read = rdr.read_byte_record(&mut record);
+        let row_error = match read {
             Ok(false) => break,
-            Ok(true) => {}
-            Err(e) if input::is_row_error(&e) => {
-                if let DataError::Rejected(r) = input::csv_error(file, e) {
-                    reject(&mut totals, r)?;
-                }
-                continue;
-            }
+            Ok(true) => None,
+            Err(e) if input::is_row_error(&e) => Some(e),
             Err(e) => return Err(input::csv_error(file, e)),
-        }
+        };
         count += 1;
         if count > opts.max_rows {
             return Err(DataError::TooManyRows {
@@ -339,7 +350,14 @@ fn aggregate(
                 limit: opts.max_rows,
             });
         }
-        let line = record.position().map_or(0, |p| p.line());
+        let line = input::record_line(start, rdr.position().line(), &record);
+        if let Some(e) = row_error {
+            if let DataError::Rejected(mut r) = input::csv_error(file, e) {
+                r.at.line = Some(line);
+                reject(&mut totals, r)?;
+            }
+            continue;
+        }
         let field = |c: Option<usize>| c.and_then(|i| record.get(i)).map(trim).unwrap_or_default();
         let fail = |role: usize, reason: String| Rejection {
             at: Location {
@@ -494,7 +512,28 @@ fn aggregate(
         } else {
             league_id
         };
-        for (team, scored, allowed) in [(home_id, hs, aw), (away_id, aw, hs)] {
+        let sides = [(home_id, hs, aw), (away_id, aw, hs)];
+        // Checked first, so that absurd scores give a message instead of wrapping (or panicking).
+        let countable = sides.iter().all(|&(team, scored, allowed)| {
+            totals
+                .records
+                .get(&(season, league_id, team))
+                .is_none_or(|r| {
+                    r.runs_scored.checked_add(scored).is_some()
+                        && r.runs_allowed.checked_add(allowed).is_some()
+                })
+        });
+        if !countable {
+            reject(
+                &mut totals,
+                fail(
+                    HOME_SCORE,
+                    "the season's run totals grow too large to count".to_string(),
+                ),
+            )?;
+            continue;
+        }
+        for (team, scored, allowed) in sides {
             let rec = totals
                 .records
                 .entry((season, league_id, team))

@@ -10,11 +10,19 @@ use crate::error::DataError;
 pub const DEFAULT_MAX_LINE_BYTES: usize = 1 << 20;
 
 /// A reader that fails once a physical line grows beyond a limit.
+///
+/// It also turns every line end into `\n` (`\r\n` and a lone `\r` each count as one line end, as
+/// editors count them) and ends a last line that lacks one, so that the csv parser's line count
+/// agrees with the lines a user sees; a `\r` inside a quoted field becomes `\n` too.
 pub struct LineLimit<R> {
     inner: R,
     limit: usize,
     current: usize,
     line: u64,
+    /// The last byte read was a `\r` (already passed on as `\n`): a `\n` right after it is dropped.
+    after_cr: bool,
+    /// Bytes have been passed on since the last line end.
+    open_line: bool,
 }
 
 impl<R: Read> LineLimit<R> {
@@ -24,32 +32,87 @@ impl<R: Read> LineLimit<R> {
             limit,
             current: 0,
             line: 1,
+            after_cr: false,
+            open_line: false,
         }
     }
 }
 
+/// The error a [`LineLimit`] reader fails with, so that callers can name the line.
+#[derive(Debug)]
+pub struct LineTooLong {
+    pub line: u64,
+    pub limit: usize,
+}
+
+impl std::fmt::Display for LineTooLong {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "line {} is longer than {} bytes (the limit for one line)",
+            self.line, self.limit
+        )
+    }
+}
+
+impl std::error::Error for LineTooLong {}
+
 impl<R: Read> Read for LineLimit<R> {
     fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
-        let n = self.inner.read(buf)?;
-        for &b in &buf[..n] {
-            if b == b'\n' {
-                self.current = 0;
-                self.line += 1;
-            } else {
-                self.current += 1;
-                if self.current > self.limit {
-                    return Err(io::Error::new(
-                        io::ErrorKind::InvalidData,
-                        format!(
-                            "line {} is longer than {} bytes (the limit for one line)",
-                            self.line, self.limit
-                        ),
-                    ));
+        loop {
+            let n = self.inner.read(buf)?;
+            if n == 0 {
+                if self.open_line && !buf.is_empty() {
+                    self.open_line = false;
+                    buf[0] = b'\n';
+                    return Ok(1);
                 }
+                return Ok(0);
+            }
+            let mut kept = 0;
+            for i in 0..n {
+                let b = buf[i];
+                let after_cr = std::mem::replace(&mut self.after_cr, b == b'\r');
+                if b == b'\n' && after_cr {
+                    continue;
+                }
+                if b == b'\n' || b == b'\r' {
+                    buf[kept] = b'\n';
+                    self.open_line = false;
+                    self.current = 0;
+                    self.line += 1;
+                } else {
+                    buf[kept] = b;
+                    self.open_line = true;
+                    self.current += 1;
+                    if self.current > self.limit {
+                        return Err(io::Error::new(
+                            io::ErrorKind::InvalidData,
+                            LineTooLong {
+                                line: self.line,
+                                limit: self.limit,
+                            },
+                        ));
+                    }
+                }
+                kept += 1;
+            }
+            // A chunk holding only the `\n` of a `\r\n` leaves nothing; 0 would mean end of input.
+            if kept > 0 {
+                return Ok(kept);
             }
         }
-        Ok(n)
     }
+}
+
+/// The physical line on which a record starts, from the reader's line count before the record
+/// (`start`, which csv takes before skipping blank lines) and after it (`end`), given the record's
+/// fields as read (untrimmed). Needs the line ends of a [`LineLimit`] reader (`\n` only, the last
+/// line ended too): every record then ends with one `\n`, after the newlines inside its quoted
+/// fields, except one whose open quote runs to the end of the input (then `start` is the answer).
+pub fn record_line(start: u64, end: u64, record: &csv::ByteRecord) -> u64 {
+    let inside = record.as_slice().iter().filter(|&&b| b == b'\n').count() as u64;
+    end.saturating_sub(inside + 1).max(start)
 }
 
 /// The display name of an input path.
@@ -80,6 +143,19 @@ pub fn csv_error(file: &str, err: csv::Error) -> DataError {
     let line = err.position().map(|p| p.line());
     let reason = match err.kind() {
         csv::ErrorKind::Io(e) => {
+            if let Some(long) = e.get_ref().and_then(|x| x.downcast_ref::<LineTooLong>()) {
+                return DataError::Rejected(crate::error::Rejection {
+                    at: crate::error::Location {
+                        file: file.to_string(),
+                        line: Some(long.line),
+                        column: None,
+                    },
+                    reason: format!(
+                        "the line is longer than {} bytes (the limit for one line)",
+                        long.limit
+                    ),
+                });
+            }
             if e.kind() == io::ErrorKind::InvalidData {
                 e.to_string()
             } else {

@@ -96,14 +96,14 @@ pub fn load(paths: &[String], opts: &LoadOptions) -> Result<Dataset, DataError> 
 fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), DataError> {
     let file = input::display_name(path);
     let reader = input::open(path, opts.max_line_bytes)?;
+    // Fields are trimmed in `parse_row`, not by csv, so that `record_line` sees every newline.
     let mut rdr = csv::ReaderBuilder::new()
         .flexible(false)
-        .trim(csv::Trim::All)
         .from_reader(reader);
     let headers: Vec<String> = match rdr.byte_headers() {
         Ok(h) => h
             .iter()
-            .map(|f| String::from_utf8_lossy(f).into_owned())
+            .map(|f| String::from_utf8_lossy(f).trim().to_string())
             .collect(),
         Err(e) => return Err(input::csv_error(&file, e)),
     };
@@ -114,17 +114,14 @@ fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), Data
     let mut record = csv::ByteRecord::new();
     let mut count: u64 = 0;
     loop {
-        match rdr.read_byte_record(&mut record) {
+        let start = rdr.position().line();
+        let read = rdr.read_byte_record(&mut record);
+        let row_error = match read {
             Ok(false) => break,
-            Ok(true) => {}
-            Err(e) if input::is_row_error(&e) => {
-                if let DataError::Rejected(r) = input::csv_error(&file, e) {
-                    ds.reject(opts.skip_invalid, r)?;
-                }
-                continue;
-            }
+            Ok(true) => None,
+            Err(e) if input::is_row_error(&e) => Some(e),
             Err(e) => return Err(input::csv_error(&file, e)),
-        }
+        };
         count += 1;
         if count > opts.max_rows {
             return Err(DataError::TooManyRows {
@@ -132,7 +129,14 @@ fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), Data
                 limit: opts.max_rows,
             });
         }
-        let line = record.position().map(|p| p.line());
+        let line = Some(input::record_line(start, rdr.position().line(), &record));
+        if let Some(e) = row_error {
+            if let DataError::Rejected(mut r) = input::csv_error(&file, e) {
+                r.at.line = line;
+                ds.reject(opts.skip_invalid, r)?;
+            }
+            continue;
+        }
         match parse_row(&file, line, &map, &record) {
             Ok(row) => {
                 if opts.keeps(row.season, row.league.as_deref()) {

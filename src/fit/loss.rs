@@ -111,42 +111,93 @@ pub fn metrics(t: &Table, kind: ModelKind, params: &[f64], counts: Option<&[f64]
     metrics_with(t, counts, |i| predict(kind, params, &Row::of(t, i)))
 }
 
+/// [`metrics`] of the Pythagorean model with row multiplicities `counts`, reading only `rows` (the
+/// rows whose count is not zero, in ascending order): the bootstrap's fused pass, summed in the same
+/// order as [`metrics`]. A row's negative log-likelihood costs one exp and one ln instead of one exp
+/// and two ln: with e = exp(−x·l) and p̂ = 1/(1+e), −ln p̂ = ln(1+e) and −ln(1−p̂) = x·l + ln(1+e).
+/// Rows whose p̂ the log-loss clamps take the general formula.
+pub fn pythagorean_metrics(t: &Table, x: f64, counts: &[f64], rows: &[u32]) -> Metrics {
+    let mut sums = Sums::default();
+    for &i in rows {
+        let i = i as usize;
+        let l = t.ln_ratio[i];
+        let (p, nll) = if l.is_finite() {
+            let xl = x * l;
+            let e = (-xl).exp();
+            let p = 1.0 / (1.0 + e);
+            if p > LOGLOSS_CLAMP && p < 1.0 - LOGLOSS_CLAMP {
+                (p, t.decisions[i] * (1.0 + e).ln() + t.losses[i] * xl)
+            } else {
+                (p, row_nll(t.wins[i], t.losses[i], p))
+            }
+        } else {
+            let p = crate::model::pythagorean_pct(x, l);
+            (p, row_nll(t.wins[i], t.losses[i], p))
+        };
+        sums.add(t, i, counts[i], p, nll);
+    }
+    sums.metrics()
+}
+
 /// Every metric of given predictions, one per row (pooled out-of-sample predictions).
 pub fn metrics_of_predictions(t: &Table, predictions: &[f64]) -> Metrics {
     metrics_with(t, None, |i| predictions[i])
 }
 
 fn metrics_with(t: &Table, counts: Option<&[f64]>, prediction: impl Fn(usize) -> f64) -> Metrics {
-    let (mut abs, mut sq, mut wsum) = (0.0, 0.0, 0.0);
-    let (mut nll, mut games) = (0.0, 0.0);
-    let (mut bias, mut csum, mut max_abs) = (0.0, 0.0, 0.0f64);
-    let mut season_games = 0.0;
+    let mut sums = Sums::default();
     for i in 0..t.len() {
         let c = counts.map_or(1.0, |c| c[i]);
         if c == 0.0 {
             continue;
         }
         let p = prediction(i);
+        sums.add(t, i, c, p, row_nll(t.wins[i], t.losses[i], p));
+    }
+    sums.metrics()
+}
+
+/// Running sums of every metric over rows with multiplicities.
+#[derive(Default)]
+struct Sums {
+    abs: f64,
+    sq: f64,
+    wsum: f64,
+    nll: f64,
+    games: f64,
+    bias: f64,
+    csum: f64,
+    max_abs: f64,
+    season_games: f64,
+}
+
+impl Sums {
+    /// Add row `i`, counted `c` times, with prediction `p` and negative log-likelihood `nll`.
+    #[inline]
+    fn add(&mut self, t: &Table, i: usize, c: f64, p: f64, nll: f64) {
         let e = t.win_pct[i] - p;
         let w = c * t.weight[i];
-        abs += w * e.abs();
-        sq += w * e * e;
-        wsum += w;
-        nll += c * row_nll(t.wins[i], t.losses[i], p);
-        games += c * t.decisions[i];
-        bias += w * e;
-        csum += c;
-        season_games += c * t.games[i];
-        max_abs = max_abs.max(e.abs());
+        self.abs += w * e.abs();
+        self.sq += w * e * e;
+        self.wsum += w;
+        self.nll += c * nll;
+        self.games += c * t.decisions[i];
+        self.bias += w * e;
+        self.csum += c;
+        self.season_games += c * t.games[i];
+        self.max_abs = self.max_abs.max(e.abs());
     }
-    let rmse = (sq / wsum).sqrt();
-    Metrics {
-        mae: abs / wsum,
-        rmse,
-        logloss: nll / games,
-        bias: bias / wsum,
-        max_abs,
-        rmse_wins: rmse * season_games / csum,
+
+    fn metrics(&self) -> Metrics {
+        let rmse = (self.sq / self.wsum).sqrt();
+        Metrics {
+            mae: self.abs / self.wsum,
+            rmse,
+            logloss: self.nll / self.games,
+            bias: self.bias / self.wsum,
+            max_abs: self.max_abs,
+            rmse_wins: rmse * self.season_games / self.csum,
+        }
     }
 }
 

@@ -201,6 +201,87 @@ pub fn newton_pythagorean(p: Problem<'_>, x0: f64) -> Option<Outcome> {
     None
 }
 
+/// The rows one weighted Pythagorean log-loss solve reads, gathered for [`newton_pythagorean_rows`]:
+/// rows of weight zero and rows with an infinite ratio (no slope, no curvature) are left out, so the
+/// inner loop has no branches.
+#[derive(Debug, Clone, Default)]
+pub struct NewtonRows {
+    pub ln_ratio: Vec<f64>,
+    /// c·wins and c·decisions, rounded exactly as `newton_pythagorean` rounds them.
+    pub wins: Vec<f64>,
+    pub decisions: Vec<f64>,
+    /// σ(x0·ln_ratio) at the starting exponent x0, computed once for every resample.
+    pub q_start: Vec<f64>,
+}
+
+impl NewtonRows {
+    pub fn clear(&mut self) {
+        self.ln_ratio.clear();
+        self.wins.clear();
+        self.decisions.clear();
+        self.q_start.clear();
+    }
+
+    pub fn push(&mut self, ln_ratio: f64, count: f64, wins: f64, decisions: f64, q_start: f64) {
+        self.ln_ratio.push(ln_ratio);
+        self.wins.push(count * wins);
+        self.decisions.push(count * decisions);
+        self.q_start.push(q_start);
+    }
+}
+
+/// Gradient and curvature of the total log-likelihood at x, given each row's σ(x·ln_ratio).
+#[inline]
+fn score_and_information(r: &NewtonRows, q: impl Fn(usize) -> f64) -> (f64, f64) {
+    let (mut grad, mut hess) = (0.0, 0.0);
+    for i in 0..r.ln_ratio.len() {
+        let (l, q) = (r.ln_ratio[i], q(i));
+        let n = r.decisions[i];
+        grad += (r.wins[i] - n * q) * l;
+        hess += n * q * (1.0 - q) * l * l;
+    }
+    (grad, hess)
+}
+
+/// [`newton_pythagorean`] for the bootstrap: the same Newton steps from `x0` over gathered rows, with
+/// two savings. The first step reuses `q_start` (every resample starts at the same exponent). And it
+/// stops as soon as Newton's quadratic convergence (step_k ≈ K·step_{k−1}²) predicts that the next
+/// step would fall below the 1e-12 tolerance, instead of taking that step: one pass of exp fewer,
+/// for a result that differs by less than the tolerance. `None` means "use the general solver".
+pub fn newton_pythagorean_rows(r: &NewtonRows, x0: f64) -> Option<f64> {
+    let mut x = x0;
+    let mut previous: Option<f64> = None;
+    for iter in 1..=50u64 {
+        let (grad, hess) = if iter == 1 {
+            score_and_information(r, |i| r.q_start[i])
+        } else {
+            score_and_information(r, |i| 1.0 / (1.0 + (-x * r.ln_ratio[i]).exp()))
+        };
+        if hess.is_nan() || hess <= 0.0 || !grad.is_finite() {
+            return None;
+        }
+        let step = grad / hess;
+        x += step;
+        if !x.is_finite() || x <= 0.0 {
+            return None;
+        }
+        let tolerance = 1e-12 * x.abs().max(1.0);
+        if step.abs() <= tolerance {
+            return Some(x);
+        }
+        // Predicted next step K·step² with K = step/previous², trusted only once steps shrink fast.
+        if let Some(prev) = previous
+            && step.abs() <= 1e-4 * x.abs().max(1.0)
+            && step.abs() <= 0.1 * prev.abs()
+            && step.abs().powi(3) <= tolerance * prev * prev
+        {
+            return Some(x);
+        }
+        previous = Some(step);
+    }
+    None
+}
+
 fn fit_two(p: Problem<'_>, start: &[f64]) -> Result<Outcome, FitError> {
     let mut best = start.to_vec();
     let mut best_cost = p.value(&best);

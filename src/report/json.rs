@@ -141,7 +141,7 @@ pub fn luck(r: &super::LuckReport) -> Value {
         "schema": "runcal.luck/1",
         "model": r.model.kind.name(),
         "params": params_of(&r.model),
-        "source": match &r.source { super::ModelSource::Profile(p) => json!({"profile": p}), super::ModelSource::Fitted => json!("fitted") },
+        "source": match &r.source { super::ModelSource::Profile(p) => json!({"profile": p}), super::ModelSource::Fitted => json!("fitted"), super::ModelSource::Given => json!("given") },
         "rows_used": r.rows_used,
         "rows_rejected": r.rows_rejected,
         "as_of": r.as_of.map(|d| d.to_string()),

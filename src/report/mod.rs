@@ -101,6 +101,8 @@ impl Report for FitReport {
 pub enum ModelSource {
     Profile(String),
     Fitted,
+    /// Given on the command line (`--exponent`).
+    Given,
 }
 
 /// The result of `runcal luck`.

@@ -20,10 +20,17 @@ pub fn new_table(header: &[&str], text_cols: usize) -> Table {
 
 /// A table from named columns: `left` columns are left-aligned, and a column named in `fold` whose
 /// cells are all equal is left out and returned as (name, value) for the caption.
-pub fn folded_table(header: &[&str], rows: &[Vec<String>], left: &[&str], fold: &[&str]) -> (Table, Vec<(String, String)>) {
+pub fn folded_table(
+    header: &[&str],
+    rows: &[Vec<String>],
+    left: &[&str],
+    fold: &[&str],
+) -> (Table, Vec<(String, String)>) {
     let keep: Vec<usize> = (0..header.len())
         .filter(|&c| {
-            !(fold.contains(&header[c]) && !rows.is_empty() && rows.iter().all(|r| r[c] == rows[0][c]))
+            !(fold.contains(&header[c])
+                && !rows.is_empty()
+                && rows.iter().all(|r| r[c] == rows[0][c]))
         })
         .collect();
     let folded = (0..header.len())
@@ -202,7 +209,9 @@ fn comparison(r: &FitReport) -> String {
     }
     let mut s = t.to_string();
     s.push('\n');
-    s.push_str("in-sample ranking; `runcal backtest` compares models on seasons they were not fitted to\n");
+    s.push_str(
+        "in-sample ranking; `runcal backtest` compares models on seasons they were not fitted to\n",
+    );
     if ranked.len() > 1 {
         let first = ranked[0];
         let second = ranked[1];
@@ -347,6 +356,7 @@ pub fn luck(r: &super::LuckReport) -> String {
     let source = match &r.source {
         super::ModelSource::Profile(p) => format!("calibration from {p}"),
         super::ModelSource::Fitted => "fitted on these data (no --profile)".to_string(),
+        super::ModelSource::Given => "given with --exponent".to_string(),
     };
     let params: Vec<String> = r
         .model
@@ -429,7 +439,12 @@ pub fn luck(r: &super::LuckReport) -> String {
         }
         rows.push(row);
     }
-    let (t, folded) = folded_table(&header, &rows, &["season", "league", "team", "signal"], &["season", "league"]);
+    let (t, folded) = folded_table(
+        &header,
+        &rows,
+        &["season", "league", "team", "signal"],
+        &["season", "league"],
+    );
     for (name, value) in folded {
         out.push_str(&format!("{name}: {value}\n"));
     }

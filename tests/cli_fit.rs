@@ -1,0 +1,320 @@
+//! `runcal fit` through the command line, checked against outside sources.
+
+mod common;
+
+use assert_cmd::Command;
+use common::{DATABANK_MAPS, close, databank_path, f, reference, repo};
+use serde_json::Value;
+
+fn runcal() -> Command {
+    let mut c = Command::cargo_bin("runcal").unwrap();
+    c.current_dir(repo());
+    c
+}
+
+fn databank_fit(extra: &[&str]) -> Value {
+    let mut cmd = runcal();
+    cmd.arg("fit").arg(databank_path());
+    for m in DATABANK_MAPS {
+        cmd.args(["--map", m]);
+    }
+    cmd.args(extra).args(["--format", "json", "-q"]);
+    let out = cmd.assert().success().get_output().stdout.clone();
+    serde_json::from_slice(&out).unwrap()
+}
+
+#[test]
+fn databank_1980_2006_optimum_per_loss_matches_reference_script() {
+    let r = reference();
+    for loss in ["logloss", "mae", "rmse"] {
+        let v = databank_fit(&["--seasons", "1980-2006", "--loss", loss, "--no-references"]);
+        assert_eq!(v["schema"], "runcal.fit/1");
+        assert_eq!(v["rows_used"], 748);
+        assert_eq!(v["rows_rejected"], 0);
+        let fit = &v["fits"][0];
+        assert_eq!(fit["model"], "pythagorean");
+        assert_eq!(fit["loss"], loss);
+        assert_eq!(fit["fitted"], true);
+        assert_eq!(fit["converged"], true);
+        // scipy.optimize.minimize_scalar (bounded) and the statsmodels GLM, via reference.py.
+        let want = &r["subsets"]["1980-2006"]["fits"]["pythagorean"][loss];
+        close(
+            f(&fit["params"]["exponent"]),
+            f(&want["params"]["exponent"]),
+            1e-4,
+            loss,
+        );
+        close(f(&fit["metrics"][loss]), f(&want["loss"]), 1e-6, loss);
+    }
+}
+
+#[test]
+fn logloss_fit_reports_quasi_binomial_standard_errors_like_statsmodels() {
+    let glm = &reference()["subsets"]["1980-2006"]["glm"];
+    let v = databank_fit(&["--seasons", "1980-2006", "--no-references"]);
+    let fit = &v["fits"][0];
+    // statsmodels GLM Binomial, var_weights = games, no intercept: scale="X2" and default scale.
+    close(
+        f(&fit["std_errors"]["exponent"]) / f(&glm["se_x2"]),
+        1.0,
+        1e-4,
+        "se_x2",
+    );
+    close(
+        f(&fit["std_errors_binomial"]["exponent"]) / f(&glm["se_binomial"]),
+        1.0,
+        1e-4,
+        "se",
+    );
+    close(
+        f(&fit["dispersion"]) / f(&glm["dispersion"]),
+        1.0,
+        1e-4,
+        "dispersion",
+    );
+    assert!(fit["ci"].is_null() && fit["ci_level"].is_null());
+}
+
+#[test]
+fn exponent_three_and_the_best_grid_exponent_give_the_usual_mae() {
+    // Common practice (no published source): on 1980–2006 (748 team-seasons) exponent 3 gives an MAE
+    // of about 0.034 in win%, and on a 0.1-step grid from 0.5 to 4 the best exponent is 1.9 with an
+    // MAE of about 0.020. (reference.py's grid gives 0.03389 and 1.9 → 0.01963.)
+    let mae_at = |x: f64| {
+        let v = databank_fit(&[
+            "--seasons",
+            "1980-2006",
+            "--loss",
+            "mae",
+            "--exponent",
+            &format!("{x}"),
+            "--no-references",
+        ]);
+        assert_eq!(v["fits"][0]["fitted"], false);
+        f(&v["fits"][0]["metrics"]["mae"])
+    };
+    let at3 = mae_at(3.0);
+    assert!((at3 - 0.034).abs() < 0.001, "MAE at exponent 3: {at3}");
+    let grid: Vec<f64> = (0..=35).map(|k| ((5 + k) as f64) / 10.0).collect();
+    let (best, best_mae) = grid
+        .iter()
+        .map(|&x| (x, mae_at(x)))
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .unwrap();
+    assert!((best - 1.9).abs() < 1e-9, "best grid exponent {best}");
+    assert!((best_mae - 0.020).abs() < 0.001, "best grid MAE {best_mae}");
+    let want = &reference()["subsets"]["1980-2006"]["grid_mae"];
+    close(at3, f(&want["mae_at_3"]), 1e-12, "mae at 3 vs reference.py");
+    close(
+        best_mae,
+        f(&want["best_mae"]),
+        1e-12,
+        "best mae vs reference.py",
+    );
+}
+
+#[test]
+fn model_comparison_lists_fitted_models_and_unfitted_references() {
+    let v = databank_fit(&["--model", "all", "--reference", "pythagorean:2.37"]);
+    let fits = v["fits"].as_array().unwrap();
+    let fitted: Vec<&Value> = fits.iter().filter(|f| f["fitted"] == true).collect();
+    let refs: Vec<&Value> = fits.iter().filter(|f| f["fitted"] == false).collect();
+    assert_eq!(fitted.len(), 4);
+    // Exponent 2, 1.83, PythagenPat 0.287, Pythagenport 1.5/0.45, and the user's 2.37.
+    assert_eq!(refs.len(), 5);
+    assert!(refs.iter().any(|r| r["params"]["exponent"] == 2.37));
+    assert!(
+        refs.iter()
+            .any(|r| r["model"] == "pythagenport" && r["params"]["a"] == 1.5)
+    );
+    // Fitted models come first, ranked by log-loss.
+    let losses: Vec<f64> = fitted
+        .iter()
+        .map(|f| common::f(&f["metrics"]["logloss"]))
+        .collect();
+    assert!(losses.windows(2).all(|w| w[0] <= w[1]), "{losses:?}");
+    for f in &fitted {
+        assert!(f["iterations"].as_u64().unwrap() > 0);
+        assert_eq!(f["converged"], true);
+    }
+    // Run-environment models report the range of exponents their rows receive.
+    let pat = fitted.iter().find(|f| f["model"] == "pythagenpat").unwrap();
+    let range = pat["exponent_range"].as_array().unwrap();
+    assert!(common::f(&range[0]) < common::f(&range[1]));
+}
+
+#[test]
+fn by_season_fits_each_group_and_lists_small_ones() {
+    let v = databank_fit(&[
+        "--seasons",
+        "1871-1880",
+        "--by",
+        "season",
+        "--min-group",
+        "9",
+    ]);
+    let fits = v["fits"].as_array().unwrap();
+    let small = v["too_small_groups"].as_array().unwrap();
+    // 1871–1880: every season is a group; those with fewer than 9 clubs are listed, not fitted.
+    assert_eq!(fits.len() + small.len(), 10);
+    assert!(!small.is_empty() && !fits.is_empty());
+    for s in small {
+        assert!(s["rows"].as_u64().unwrap() < 9);
+    }
+    for fit in fits {
+        assert!(fit["group"]["season"].is_i64());
+        assert!(fit["rows"].as_u64().unwrap() >= 9);
+    }
+}
+
+#[test]
+fn csv_output_has_one_row_per_team_season_with_residuals() {
+    let mut cmd = runcal();
+    cmd.args([
+        "fit",
+        "demo-data/meridian-league.csv",
+        "--format",
+        "csv",
+        "-q",
+        "--model",
+        "pythagenpat",
+    ]);
+    let out = String::from_utf8(cmd.assert().success().get_output().stdout.clone()).unwrap();
+    let mut rdr = csv::Reader::from_reader(out.as_bytes());
+    let headers = rdr.headers().unwrap().clone();
+    assert!(headers.iter().any(|h| h == "expected_win_pct"));
+    assert!(headers.iter().any(|h| h == "exponent"));
+    let rows: Vec<csv::StringRecord> = rdr.records().map(Result::unwrap).collect();
+    assert_eq!(rows.len(), 350);
+    let col = |name: &str| headers.iter().position(|h| h == name).unwrap();
+    for r in &rows {
+        let wins: f64 = r[col("wins")].parse().unwrap();
+        let expected: f64 = r[col("expected_wins")].parse().unwrap();
+        let luck: f64 = r[col("luck_wins")].parse().unwrap();
+        assert!((wins - expected - luck).abs() < 1e-9);
+    }
+}
+
+#[test]
+fn demo_league_is_what_its_generator_makes() {
+    // demo-data/make-demo.sh: the committed file is exactly the seeded generator's output.
+    let mut cmd = runcal();
+    cmd.args([
+        "simulate",
+        "--teams",
+        "14",
+        "--seasons",
+        "25",
+        "--games",
+        "140",
+        "--exponent",
+        "1.83",
+        "--seed",
+        "2026",
+        "--first-season",
+        "2001",
+    ]);
+    let out = cmd.assert().success().get_output().stdout.clone();
+    let committed = std::fs::read(repo().join("demo-data/meridian-league.csv")).unwrap();
+    assert!(
+        out == committed,
+        "demo-data/meridian-league.csv differs from its generator"
+    );
+}
+
+#[test]
+fn demo_fit_recovers_the_league_exponent() {
+    // The demo league's truth is what its design converges to on a very large simulation (Miller 2007
+    // gives exactly the Weibull shape for continuous scores of one matchup; integer runs, tie-breaking
+    // runs and a mix of opponents move the league-level value a little, so it is measured, not assumed).
+    let design = runcal::simulate::Design {
+        teams: 14,
+        seasons: 1500,
+        games: 140,
+        shape: 1.83,
+        runs_per_game: 4.5,
+        talent_sd: 0.08,
+        first_season: 1,
+        league: "Meridian League".into(),
+        seed: 424242,
+    };
+    let rows: Vec<runcal::data::TeamSeason> = runcal::simulate::seasons(&design)
+        .unwrap()
+        .into_iter()
+        .map(|r| runcal::data::TeamSeason {
+            season: r.season,
+            league: None,
+            team: r.team.to_string(),
+            wins: r.wins,
+            losses: r.losses,
+            ties: 0,
+            runs_scored: r.runs_scored as f64,
+            runs_allowed: r.runs_allowed as f64,
+            games: r.games,
+            one_run: None,
+            at: runcal::error::Location {
+                file: "sim".into(),
+                line: None,
+                column: None,
+            },
+        })
+        .collect();
+    let t = runcal::data::Table::new(&rows, Default::default(), Default::default());
+    let big = runcal::fit::fit_model(
+        &t,
+        runcal::model::ModelKind::Pythagorean,
+        runcal::fit::Loss::Logloss,
+    )
+    .unwrap();
+    let truth = big.model.params[0];
+    let truth_se = big.std_errors.unwrap().corrected[0];
+    assert!(
+        (truth - 1.83).abs() < 0.1,
+        "large-sample exponent {truth} far from the Weibull shape"
+    );
+
+    let mut cmd = runcal();
+    cmd.args([
+        "fit",
+        "demo-data/meridian-league.csv",
+        "--format",
+        "json",
+        "-q",
+        "--no-references",
+    ]);
+    let v: Value = serde_json::from_slice(&cmd.assert().success().get_output().stdout).unwrap();
+    let x = f(&v["fits"][0]["params"]["exponent"]);
+    let se = f(&v["fits"][0]["std_errors"]["exponent"]);
+    // 25 seasons pin the exponent to its quasi-binomial standard error (~0.04); a fit within three of
+    // them of the truth fails by chance about 3 times in 1000.
+    let gap = (x - truth).abs() / (se * se + truth_se * truth_se).sqrt();
+    assert!(
+        gap < 3.0,
+        "demo fit {x} ± {se} vs truth {truth}: {gap:.2} standard errors"
+    );
+}
+
+#[test]
+fn table_output_names_the_fit_and_the_performers() {
+    let mut cmd = runcal();
+    cmd.args(["fit", "demo-data/meridian-league.csv", "-q"]);
+    let out = String::from_utf8(cmd.assert().success().get_output().stdout.clone()).unwrap();
+    assert!(out.contains("350 team-seasons used, 0 rejected"));
+    assert!(out.contains("exponent 1.92"));
+    assert!(out.contains("Most wins above their scoring"));
+    assert!(out.contains("Most wins below their scoring"));
+    assert!(out.contains("std. error"));
+}
+
+#[test]
+fn plot_writes_an_svg_with_the_optimum_marked() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = dir.path().join("fit.svg");
+    let mut cmd = runcal();
+    cmd.args(["fit", "demo-data/meridian-league.csv", "-q", "--plot"])
+        .arg(&svg);
+    cmd.assert().success();
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert!(text.starts_with("<svg"));
+    assert!(text.contains("optimum 1.92"));
+}

@@ -1,0 +1,344 @@
+//! Game logs, saved calibrations and the weekly luck report.
+
+mod common;
+
+use assert_cmd::Command;
+use common::{close, f, repo};
+use serde_json::Value;
+
+fn runcal() -> Command {
+    let mut c = Command::cargo_bin("runcal").unwrap();
+    c.current_dir(repo());
+    c
+}
+
+fn json(cmd: &mut Command) -> Value {
+    serde_json::from_slice(&cmd.assert().success().get_output().stdout).unwrap()
+}
+
+/// Five games among three clubs, standings worked out by hand below.
+const SMALL_LOG: &str = "\
+date,home,away,home_score,away_score
+2026-04-01,Harbor,Mill,5,4
+2026-04-02,Mill,Quarry,2,7
+2026-04-03,Quarry,Harbor,3,3
+2026-04-04,Harbor,Quarry,1,6
+2026-04-05,Mill,Harbor,8,7
+";
+
+#[test]
+fn game_logs_aggregate_into_hand_computed_standings() {
+    let dir = tempfile::tempdir().unwrap();
+    let log = dir.path().join("games.csv");
+    std::fs::write(&log, SMALL_LOG).unwrap();
+    let v = json(
+        runcal()
+            .args([
+                "luck", "--games", "--format", "json", "-q", "--model", "linear",
+            ])
+            .arg(&log),
+    );
+    let team = |name: &str| {
+        v["teams"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|t| t["team"] == name)
+            .unwrap()
+            .clone()
+    };
+    // Harbor: beat Mill 5-4 (one-run win), tied Quarry 3-3, lost to Quarry 1-6, lost at Mill 7-8
+    // (one-run loss): 1-2-1, RS 5+3+1+7 = 16, RA 4+3+6+8 = 21.
+    let h = team("Harbor");
+    assert_eq!(
+        (h["wins"].as_u64(), h["losses"].as_u64(), h["ties"].as_u64()),
+        (Some(1), Some(2), Some(1))
+    );
+    assert_eq!((f(&h["runs_scored"]), f(&h["runs_allowed"])), (16.0, 21.0));
+    assert_eq!(
+        (h["one_run_wins"].as_u64(), h["one_run_losses"].as_u64()),
+        (Some(1), Some(1))
+    );
+    assert_eq!(h["games"], 4);
+    // Mill: lost 4-5 at Harbor (one run), lost 2-7 to Quarry, beat Harbor 8-7 (one run): 1-2,
+    // RS 4+2+8 = 14, RA 5+7+7 = 19.
+    let m = team("Mill");
+    assert_eq!(
+        (m["wins"].as_u64(), m["losses"].as_u64(), m["ties"].as_u64()),
+        (Some(1), Some(2), Some(0))
+    );
+    assert_eq!((f(&m["runs_scored"]), f(&m["runs_allowed"])), (14.0, 19.0));
+    assert_eq!(
+        (m["one_run_wins"].as_u64(), m["one_run_losses"].as_u64()),
+        (Some(1), Some(1))
+    );
+    // Quarry: won 7-2 at Mill, tied 3-3, won 6-1 at Harbor: 2-0-1, RS 16, RA 6, no one-run games.
+    let q = team("Quarry");
+    assert_eq!(
+        (q["wins"].as_u64(), q["losses"].as_u64(), q["ties"].as_u64()),
+        (Some(2), Some(0), Some(1))
+    );
+    assert_eq!((f(&q["runs_scored"]), f(&q["runs_allowed"])), (16.0, 6.0));
+    assert_eq!(
+        (q["one_run_wins"].as_u64(), q["one_run_losses"].as_u64()),
+        (Some(0), Some(0))
+    );
+    // A tie counts half: Quarry's win% is (2 + 0.5)/3.
+    close(f(&q["win_pct"]), 2.5 / 3.0, 1e-12, "win% with a tie");
+}
+
+#[test]
+fn as_of_cuts_the_season_at_a_date() {
+    let dir = tempfile::tempdir().unwrap();
+    let log = dir.path().join("games.csv");
+    std::fs::write(&log, SMALL_LOG).unwrap();
+    let v = json(
+        runcal()
+            .args([
+                "luck",
+                "--games",
+                "--format",
+                "json",
+                "-q",
+                "--as-of",
+                "2026-04-02",
+                "--exponent",
+                "2",
+            ])
+            .arg(&log),
+    );
+    // Through 2 April: Harbor 1-0 (5-4), Mill 0-2 (4-5, 2-7), Quarry 1-0 (7-2).
+    let teams = v["teams"].as_array().unwrap();
+    let games: u64 = teams.iter().map(|t| t["games"].as_u64().unwrap()).sum();
+    assert_eq!(games, 4);
+    assert_eq!(v["as_of"], "2026-04-02");
+}
+
+#[test]
+fn profile_round_trip_gives_the_same_expected_wins_as_fitting_in_process() {
+    let dir = tempfile::tempdir().unwrap();
+    let profile = dir.path().join("profile.json");
+    runcal()
+        .args([
+            "fit",
+            "demo-data/meridian-league.csv",
+            "-q",
+            "--save-profile",
+        ])
+        .arg(&profile)
+        .assert()
+        .success();
+    let p: Value = serde_json::from_str(&std::fs::read_to_string(&profile).unwrap()).unwrap();
+    assert_eq!(p["schema"], "runcal.profile/1");
+    assert_eq!(p["fitted_on"]["rows"], 350);
+    assert_eq!(p["fitted_on"]["seasons"], serde_json::json!([2001, 2025]));
+    assert_eq!(p["season_games"], 140);
+    assert!(
+        p["fitted_on"]["fingerprint"]
+            .as_str()
+            .unwrap()
+            .starts_with("fnv1a64:")
+    );
+    assert!(p["runcal_version"].is_string() && p["created"].is_string());
+
+    let with_profile = json(
+        runcal()
+            .args([
+                "luck",
+                "demo-data/meridian-league.csv",
+                "--format",
+                "json",
+                "-q",
+                "--profile",
+            ])
+            .arg(&profile),
+    );
+    let in_process = json(runcal().args([
+        "luck",
+        "demo-data/meridian-league.csv",
+        "--format",
+        "json",
+        "-q",
+    ]));
+    assert_eq!(with_profile["params"], in_process["params"]);
+    let a = with_profile["teams"].as_array().unwrap();
+    let b = in_process["teams"].as_array().unwrap();
+    assert_eq!(a.len(), 350);
+    for (x, y) in a.iter().zip(b) {
+        assert_eq!(x["team"], y["team"]);
+        assert_eq!(x["expected_wins"], y["expected_wins"]);
+    }
+}
+
+#[test]
+fn weekly_report_on_the_demo_game_log_ranks_with_z_p_one_run_and_projection() {
+    let v = json(runcal().args([
+        "luck",
+        "demo-data/meridian-2026-games.csv",
+        "--games",
+        "--profile",
+        "demo-data/meridian-profile.json",
+        "--as-of",
+        "2026-07-15",
+        "--format",
+        "json",
+    ]));
+    assert_eq!(v["schema"], "runcal.luck/1");
+    assert_eq!(v["model"], "pythagorean");
+    let teams = v["teams"].as_array().unwrap();
+    assert_eq!(teams.len(), 14);
+    let luck: Vec<f64> = teams.iter().map(|t| f(&t["luck_wins"])).collect();
+    assert!(
+        luck.windows(2).all(|w| w[0] >= w[1]),
+        "sorted by luck, most ahead first"
+    );
+    for t in teams {
+        let (w, n, p) = (
+            f(&t["wins"]) + f(&t["ties"]) / 2.0,
+            f(&t["wins"]) + f(&t["losses"]) + f(&t["ties"]),
+            f(&t["expected_win_pct"]),
+        );
+        close(
+            f(&t["luck_z"]),
+            (w - n * p) / (n * p * (1.0 - p)).sqrt(),
+            1e-9,
+            "z",
+        );
+        close(
+            f(&t["luck_p"]),
+            runcal::luck::two_sided_p(f(&t["luck_z"])),
+            1e-12,
+            "p",
+        );
+        assert!(t["one_run_wins"].is_u64() && t["one_run_losses"].is_u64());
+        let interval = t["projected_interval"].as_array().unwrap();
+        let proj = f(&t["projected_wins"]);
+        assert!(f(&interval[0]) <= proj && proj <= f(&interval[1]));
+        assert_eq!(
+            t["remaining_games"].as_u64().unwrap() + t["games"].as_u64().unwrap(),
+            140
+        );
+    }
+    assert_eq!(v["season_games"], 140);
+}
+
+#[test]
+fn large_luck_is_flagged_in_words() {
+    let dir = tempfile::tempdir().unwrap();
+    let file = dir.path().join("standings.csv");
+    // A club that wins 70 of 100 while scoring as many runs as it allows: z = (70 − 50)/5 = +4.
+    std::fs::write(&file, "season,team,w,l,rs,ra\n2026,Lucky,70,30,400,400\n2026,Even,50,50,420,380\n2026,Plain,45,55,380,420\n").unwrap();
+    let mut cmd = runcal();
+    cmd.args(["luck", "-q", "--model", "pythagorean"])
+        .arg(&file);
+    let out = String::from_utf8(cmd.assert().success().get_output().stdout.clone()).unwrap();
+    let lucky = out.lines().find(|l| l.contains("Lucky")).unwrap();
+    assert!(lucky.contains("well ahead of scoring"), "{lucky}");
+    assert!(out.contains("not wagering or financial advice"));
+}
+
+#[test]
+fn csv_cells_that_look_like_formulas_are_neutralised() {
+    let dir = tempfile::tempdir().unwrap();
+    let file = dir.path().join("standings.csv");
+    std::fs::write(&file, "season,team,w,l,rs,ra\n2026,=HYPERLINK(\"x\"),60,40,450,400\n2026,@Club,40,60,400,450\n2026,Plain,50,50,420,420\n").unwrap();
+    let mut cmd = runcal();
+    cmd.args(["luck", "-q", "--format", "csv"]).arg(&file);
+    let out = String::from_utf8(cmd.assert().success().get_output().stdout.clone()).unwrap();
+    assert!(out.contains("'=HYPERLINK"), "{out}");
+    assert!(out.contains("'@Club"));
+    assert!(!out.lines().any(|l| {
+        l.split(',')
+            .any(|c| c.starts_with('=') || c.starts_with('@'))
+    }));
+}
+
+#[test]
+fn bad_profiles_are_explained() {
+    let dir = tempfile::tempdir().unwrap();
+    let bad = dir.path().join("p.json");
+    std::fs::write(&bad, r#"{"schema": "runcal.profile/9"}"#).unwrap();
+    runcal()
+        .args(["luck", "demo-data/meridian-league.csv", "--profile"])
+        .arg(&bad)
+        .assert()
+        .code(2)
+        .stderr(predicates::str::contains(
+            "profile schema 'runcal.profile/9' is not supported",
+        ));
+    std::fs::write(&bad, "not json").unwrap();
+    runcal()
+        .args(["luck", "demo-data/meridian-league.csv", "--profile"])
+        .arg(&bad)
+        .assert()
+        .code(2)
+        .stderr(predicates::str::contains("not valid JSON"));
+    std::fs::write(
+        &bad,
+        r#"{"schema": "runcal.profile/1", "model": "pythagorean"}"#,
+    )
+    .unwrap();
+    runcal()
+        .args(["luck", "demo-data/meridian-league.csv", "--profile"])
+        .arg(&bad)
+        .assert()
+        .code(2)
+        .stderr(predicates::str::contains("not a runcal profile"));
+}
+
+#[test]
+fn bad_game_rows_are_rejected_with_their_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let cases = [
+        ("2026-02-30,A,B,1,2", "expected an ISO 8601 date"),
+        ("2026-04-01,A,A,1,2", "playing itself"),
+        ("2026-04-01,A,B,-1,2", "non-negative"),
+        ("2026-04-01,A,B,1,2\n2026-04-01,A,B,1,2", "duplicate game"),
+    ];
+    for (rows, reason) in cases {
+        let file = dir.path().join("log.csv");
+        std::fs::write(
+            &file,
+            format!("date,home,away,home_score,away_score\n2026-03-31,A,B,3,1\n{rows}\n"),
+        )
+        .unwrap();
+        let line = if reason == "duplicate game" {
+            ":4"
+        } else {
+            ":3"
+        };
+        runcal()
+            .args(["luck", "--games"])
+            .arg(&file)
+            .assert()
+            .code(2)
+            .stderr(predicates::str::contains(reason))
+            .stderr(predicates::str::contains(format!("log.csv{line}")));
+    }
+}
+
+#[test]
+fn luck_plot_is_an_svg_with_labelled_extremes() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = dir.path().join("luck.svg");
+    runcal()
+        .args([
+            "luck",
+            "demo-data/meridian-2026-games.csv",
+            "--games",
+            "--profile",
+            "demo-data/meridian-profile.json",
+            "-q",
+            "--plot",
+        ])
+        .arg(&svg)
+        .assert()
+        .success();
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert!(text.starts_with("<svg"));
+    assert!(text.contains("actual = expected"));
+    assert!(
+        text.contains("2026 ("),
+        "extreme teams are labelled with season and luck"
+    );
+}
