@@ -32,8 +32,14 @@ fn subset_seasons(subset: &str) -> Option<&'static str> {
 fn row_counts_match_the_reference_extract() {
     let r = reference();
     // 748 team-seasons in 1980–2006 and 2955 in the whole file, as the reference script counted.
-    assert_eq!(databank(Some("1980-2006")).rows.len() as u64, r["subsets"]["1980-2006"]["rows"].as_u64().unwrap());
-    assert_eq!(databank(None).rows.len() as u64, r["subsets"]["all"]["rows"].as_u64().unwrap());
+    assert_eq!(
+        databank(Some("1980-2006")).rows.len() as u64,
+        r["subsets"]["1980-2006"]["rows"].as_u64().unwrap()
+    );
+    assert_eq!(
+        databank(None).rows.len() as u64,
+        r["subsets"]["all"]["rows"].as_u64().unwrap()
+    );
 }
 
 #[test]
@@ -48,10 +54,30 @@ fn logloss_exponent_and_standard_errors_match_statsmodels_glm() {
         close(fit.model.params[0], f(&glm["exponent"]), 1e-8, "exponent");
         let se = fit.std_errors.as_ref().unwrap();
         // Default (binomial) scale, and scale="X2" (Pearson χ²/(n−1)): relative 1e-4.
-        close(se.binomial[0] / f(&glm["se_binomial"]), 1.0, 1e-4, "binomial std. error");
-        close(se.corrected[0] / f(&glm["se_x2"]), 1.0, 1e-4, "quasi-binomial std. error");
-        close(se.dispersion / f(&glm["dispersion"]), 1.0, 1e-4, "dispersion");
-        close(fit.metrics.logloss, f(&glm["logloss"]), 1e-10, "logloss at optimum");
+        close(
+            se.binomial[0] / f(&glm["se_binomial"]),
+            1.0,
+            1e-4,
+            "binomial std. error",
+        );
+        close(
+            se.corrected[0] / f(&glm["se_x2"]),
+            1.0,
+            1e-4,
+            "quasi-binomial std. error",
+        );
+        close(
+            se.dispersion / f(&glm["dispersion"]),
+            1.0,
+            1e-4,
+            "dispersion",
+        );
+        close(
+            fit.metrics.logloss,
+            f(&glm["logloss"]),
+            1e-10,
+            "logloss at optimum",
+        );
         assert!(fit.converged);
     }
 }
@@ -71,7 +97,10 @@ fn every_model_and_loss_matches_scipy_optimisers() {
                 let want_loss = f(&want["loss"]);
                 // Losses to 1e-6 (the bar); ours may be lower, never meaningfully higher.
                 close(got.loss_value(), want_loss, 1e-6, &format!("{what} loss"));
-                assert!(got.loss_value() <= want_loss + 1e-9, "{what}: worse optimum than scipy");
+                assert!(
+                    got.loss_value() <= want_loss + 1e-9,
+                    "{what}: worse optimum than scipy"
+                );
                 // One-parameter optima to 1e-4 (scipy's bounded Brent, xatol 1e-10). Pythagenport's
                 // (a, b) form a long flat valley when run environments vary little, so only its
                 // log-loss and RMSE optima (smooth) are compared, and on the full history only,
@@ -80,7 +109,12 @@ fn every_model_and_loss_matches_scipy_optimisers() {
                     || (subset == "all" && !loss_name.starts_with("mae"));
                 if params_comparable {
                     for (name, v) in kind.param_names().iter().zip(&got.model.params) {
-                        close(*v, f(&want["params"][name]), 1e-4, &format!("{what} {name}"));
+                        close(
+                            *v,
+                            f(&want["params"][name]),
+                            1e-4,
+                            &format!("{what} {name}"),
+                        );
                     }
                 }
             }
@@ -94,12 +128,29 @@ fn published_references_score_like_scipy() {
     for subset in ["1980-2006", "all"] {
         let ds = databank(subset_seasons(subset));
         let t = table(&ds, Weighting::None);
-        for label in ["pythagorean:2", "pythagorean:1.83", "pythagenpat:0.287", "pythagenport:1.5,0.45", "linear:10"] {
+        for label in [
+            "pythagorean:2",
+            "pythagorean:1.83",
+            "pythagenpat:0.287",
+            "pythagenport:1.5,0.45",
+            "linear:10",
+        ] {
             let m: Model = label.parse().unwrap();
             let got = loss::metrics(&t, m.kind, &m.params, None);
             let want = &r["subsets"][subset]["scores"][label];
-            for (name, v) in [("mae", got.mae), ("rmse", got.rmse), ("logloss", got.logloss), ("bias", got.bias), ("max_abs", got.max_abs)] {
-                close(v, f(&want[name]), 1e-12, &format!("{subset} {label} {name}"));
+            for (name, v) in [
+                ("mae", got.mae),
+                ("rmse", got.rmse),
+                ("logloss", got.logloss),
+                ("bias", got.bias),
+                ("max_abs", got.max_abs),
+            ] {
+                close(
+                    v,
+                    f(&want[name]),
+                    1e-12,
+                    &format!("{subset} {label} {name}"),
+                );
             }
         }
     }
@@ -111,9 +162,19 @@ fn runs_per_win_at_average_scoring_matches_reference() {
     let ds = databank(Some("1980-2006"));
     let t = table(&ds, Weighting::None);
     let fit = fit::fit_model(&t, ModelKind::Pythagorean, Loss::Logloss).unwrap();
-    close(t.average_rpg(), f(&r["subsets"]["1980-2006"]["avg_rpg"]), 1e-12, "average runs per game");
+    close(
+        t.average_rpg(),
+        f(&r["subsets"]["1980-2006"]["avg_rpg"]),
+        1e-12,
+        "average runs per game",
+    );
     // 2·RPG/x at the data's average RPG.
-    close(fit.runs_per_win, f(&r["subsets"]["1980-2006"]["runs_per_win"]), 1e-6, "runs per win");
+    close(
+        fit.runs_per_win,
+        f(&r["subsets"]["1980-2006"]["runs_per_win"]),
+        1e-6,
+        "runs per win",
+    );
 }
 
 #[test]
@@ -122,7 +183,10 @@ fn pythagenpat_z_on_the_whole_databank_is_near_the_published_value() {
     // Databank must fall between 0.27 and 0.30.
     let ds = databank(None);
     let t = table(&ds, Weighting::None);
-    let z = fit::fit_model(&t, ModelKind::Pythagenpat, Loss::Logloss).unwrap().model.params[0];
+    let z = fit::fit_model(&t, ModelKind::Pythagenpat, Loss::Logloss)
+        .unwrap()
+        .model
+        .params[0];
     assert!((0.27..=0.30).contains(&z), "z = {z}");
 }
 
@@ -138,9 +202,22 @@ fn luck_of_the_2006_season_matches_scipy_normal() {
     assert_eq!(want.len(), 30);
     for w in want {
         let team = w["team"].as_str().unwrap();
-        let got = lines.iter().find(|l| l.line.season == 2006 && l.line.team == team).unwrap();
-        close(got.line.expected_win_pct, f(&w["expected_win_pct"]), 1e-9, "expected win%");
-        close(got.line.expected_wins, f(&w["expected_wins"]), 1e-7, "expected wins");
+        let got = lines
+            .iter()
+            .find(|l| l.line.season == 2006 && l.line.team == team)
+            .unwrap();
+        close(
+            got.line.expected_win_pct,
+            f(&w["expected_win_pct"]),
+            1e-9,
+            "expected win%",
+        );
+        close(
+            got.line.expected_wins,
+            f(&w["expected_wins"]),
+            1e-7,
+            "expected wins",
+        );
         close(got.line.luck_wins, f(&w["luck_wins"]), 1e-7, "luck in wins");
         // z = (W − n·p̂)/sqrt(n·p̂(1−p̂)); p = 2·scipy.stats.norm.sf(|z|).
         close(got.luck_z.unwrap(), f(&w["luck_z"]), 1e-8, "luck z");
@@ -152,7 +229,12 @@ fn luck_of_the_2006_season_matches_scipy_normal() {
 fn normal_p_values_match_scipy() {
     for row in reference()["normal_two_sided_p"].as_array().unwrap() {
         // statrs' erfc carries about ten correct digits, plenty for a p-value.
-        close(runcal::luck::two_sided_p(f(&row["z"])), f(&row["p"]), 1e-10, "two-sided p");
+        close(
+            runcal::luck::two_sided_p(f(&row["z"])),
+            f(&row["p"]),
+            1e-10,
+            "two-sided p",
+        );
     }
 }
 
@@ -171,9 +253,29 @@ fn projection_worked_example_matches_scipy_betabinom() {
     close(p, f(&ex["expected_win_pct"]), 1e-12, "expected win%");
     let got = runcal::luck::project(30.0, 50.0, p, k, 162, 50);
     assert_eq!(got.remaining, 112);
-    close(got.regressed_win_pct, f(&ex["regressed_win_pct"]), 1e-9, "regressed win%");
-    close(got.projected_wins, f(&ex["projected_wins"]), 1e-6, "projected wins");
+    close(
+        got.regressed_win_pct,
+        f(&ex["regressed_win_pct"]),
+        1e-9,
+        "regressed win%",
+    );
+    close(
+        got.projected_wins,
+        f(&ex["projected_wins"]),
+        1e-6,
+        "projected wins",
+    );
     // scipy.stats.betabinom(112, k/2 + n·p̂, k/2 + n·(1−p̂)).ppf([0.1, 0.9]) + 30.
-    close(got.interval.0, f(&ex["interval_80"][0]), 0.0, "interval low");
-    close(got.interval.1, f(&ex["interval_80"][1]), 0.0, "interval high");
+    close(
+        got.interval.0,
+        f(&ex["interval_80"][0]),
+        0.0,
+        "interval low",
+    );
+    close(
+        got.interval.1,
+        f(&ex["interval_80"][1]),
+        0.0,
+        "interval high",
+    );
 }

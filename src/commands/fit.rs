@@ -28,7 +28,7 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = LossArg::Logloss)]
     pub loss: LossArg,
     /// Score this Pythagorean exponent instead of fitting one.
-    #[arg(long, value_name = "X", conflicts_with_all = ["by", "bootstrap"])]
+    #[arg(long, value_name = "X", conflicts_with_all = ["by", "bootstrap", "model"])]
     pub exponent: Option<f64>,
     /// Fit each season, league, or season and league separately.
     #[arg(long, value_name = "season|league|season,league")]

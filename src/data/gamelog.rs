@@ -251,6 +251,9 @@ pub fn load(
             acc.one_run_losses += rec.one_run_losses;
         }
     }
+    // In key order, so that rejections come out in the same order on every run.
+    let mut merged: Vec<_> = merged.into_iter().collect();
+    merged.sort_unstable_by(|a, b| a.0.cmp(&b.0));
     let mut rows: Vec<TeamSeason> = Vec::with_capacity(merged.len());
     for ((season, league, team), (rec, file)) in merged {
         let at = Location {
@@ -321,7 +324,6 @@ fn aggregate(
     let no_league = totals.leagues.id(b"").unwrap_or(0);
     let mut record = csv::ByteRecord::new();
     let mut keys_today: HashSet<(u32, u32, u32)> = HashSet::new();
-    let mut all_keys: HashSet<(u32, u32, u32, u32)> = HashSet::new();
     let mut finished_dates: HashSet<u32> = HashSet::new();
     let mut today: Option<u32> = None;
     let mut first_line_of_key: HashMap<(u32, u32, u32, u32), u64> = HashMap::new();
@@ -352,10 +354,7 @@ fn aggregate(
         }
         let line = input::record_line(start, rdr.position().line(), &record);
         if let Some(e) = row_error {
-            if let DataError::Rejected(mut r) = input::csv_error(file, e) {
-                r.at.line = Some(line);
-                reject(&mut totals, r)?;
-            }
+            reject(&mut totals, input::row_error(file, e, line, &record))?;
             continue;
         }
         let field = |c: Option<usize>| c.and_then(|i| record.get(i)).map(trim).unwrap_or_default();
@@ -435,8 +434,10 @@ fn aggregate(
         };
         let league_bytes = field(col(LEAGUE));
         let game_no = match col(GAME) {
-            Some(_) => match score(GAME, col(GAME)) {
-                Ok(g) => g as u32,
+            Some(_) => match score(GAME, col(GAME)).and_then(|g| {
+                u32::try_from(g).map_err(|_| fail(GAME, format!("game number {g} is too large")))
+            }) {
+                Ok(g) => g,
                 Err(r) => {
                     reject(&mut totals, r)?;
                     continue;
@@ -444,21 +445,25 @@ fn aggregate(
             },
             None => 0,
         };
-        let (Ok(home_id), Ok(away_id), Ok(league_id)) = (
+        let ids = (
             totals.teams.id(home),
             totals.teams.id(away),
             totals.leagues.id(league_bytes),
-        ) else {
-            reject(
-                &mut totals,
-                fail(HOME, "a team or league name is not valid UTF-8".to_string()),
-            )?;
+        );
+        let (Ok(home_id), Ok(away_id), Ok(league_id)) = ids else {
+            let role = match ids {
+                (Err(()), _, _) => HOME,
+                (_, Err(()), _) => AWAY,
+                _ => LEAGUE,
+            };
+            reject(&mut totals, fail(role, "not valid UTF-8".to_string()))?;
             continue;
         };
         let packed = date.packed();
         let key = (packed, home_id, away_id, game_no);
+        // With global keys the map holds every game so far, else only today's.
         let duplicate = if global_keys {
-            !all_keys.insert(key)
+            first_line_of_key.contains_key(&key)
         } else {
             if today != Some(packed) {
                 if let Some(d) = today {
@@ -495,9 +500,7 @@ fn aggregate(
             )?;
             continue;
         }
-        if !global_keys {
-            first_line_of_key.insert(key, line);
-        }
+        first_line_of_key.insert(key, line);
         if as_of.is_some_and(|cut| date > cut)
             || !opts.keeps(
                 season,

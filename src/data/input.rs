@@ -181,6 +181,30 @@ pub fn csv_error(file: &str, err: csv::Error) -> DataError {
     })
 }
 
+/// A row-level csv error (see [`is_row_error`]) as a rejection at the record's line (`record_line`).
+pub fn row_error(
+    file: &str,
+    err: csv::Error,
+    line: u64,
+    record: &csv::ByteRecord,
+) -> crate::error::Rejection {
+    let mut reason = match csv_error(file, err) {
+        DataError::Rejected(r) => r.reason,
+        other => other.to_string(),
+    };
+    if record.as_slice().contains(&b'\n') {
+        reason.push_str(" (a quoted field runs over several lines: is a closing quote missing?)");
+    }
+    crate::error::Rejection {
+        at: crate::error::Location {
+            file: file.to_string(),
+            line: Some(line),
+            column: None,
+        },
+        reason,
+    }
+}
+
 /// Whether a csv error concerns one row only (the reader can go on past it).
 pub fn is_row_error(err: &csv::Error) -> bool {
     matches!(

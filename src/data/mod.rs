@@ -247,6 +247,16 @@ pub(crate) fn parse_number(text: &str) -> Result<f64, String> {
     Ok(v)
 }
 
+/// Parse a run total: a non-negative finite number up to 10^15 (larger is no real total, and would
+/// let sums and runs per game overflow to infinity).
+pub(crate) fn parse_runs(text: &str) -> Result<f64, String> {
+    let v = parse_number(text)?;
+    if v > 1e15 {
+        return Err(format!("'{}' is too large for a run total", text.trim()));
+    }
+    Ok(v)
+}
+
 /// Read team-season files, or game logs when `games` is set, into one dataset.
 pub fn load(
     paths: &[String],

@@ -1,7 +1,7 @@
 //! Team-season tables: one row per team-season.
 
 use super::roles::{self, RoleSpec};
-use super::{Dataset, LoadOptions, TeamSeason, input, parse_count, parse_number};
+use super::{Dataset, LoadOptions, TeamSeason, input, parse_count, parse_runs};
 use crate::error::{DataError, Location, Rejection};
 
 const SEASON: usize = 0;
@@ -129,14 +129,12 @@ fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), Data
                 limit: opts.max_rows,
             });
         }
-        let line = Some(input::record_line(start, rdr.position().line(), &record));
+        let line = input::record_line(start, rdr.position().line(), &record);
         if let Some(e) = row_error {
-            if let DataError::Rejected(mut r) = input::csv_error(&file, e) {
-                r.at.line = line;
-                ds.reject(opts.skip_invalid, r)?;
-            }
+            ds.reject(opts.skip_invalid, input::row_error(&file, e, line, &record))?;
             continue;
         }
+        let line = Some(line);
         match parse_row(&file, line, &map, &record) {
             Ok(row) => {
                 if opts.keeps(row.season, row.league.as_deref()) {
@@ -205,8 +203,8 @@ fn parse_row(
         }
         None => 0,
     };
-    let runs_scored = parse_number(required(RUNS_SCORED)?).map_err(|e| fail(RUNS_SCORED, e))?;
-    let runs_allowed = parse_number(required(RUNS_ALLOWED)?).map_err(|e| fail(RUNS_ALLOWED, e))?;
+    let runs_scored = parse_runs(required(RUNS_SCORED)?).map_err(|e| fail(RUNS_SCORED, e))?;
+    let runs_allowed = parse_runs(required(RUNS_ALLOWED)?).map_err(|e| fail(RUNS_ALLOWED, e))?;
     let decisions = wins + losses + ties;
     if decisions == 0 {
         return Err(fail(

@@ -11,11 +11,19 @@ pub fn repo() -> PathBuf {
 
 /// The Baseball Databank Teams table (CC BY-SA 3.0), trimmed by tests/reference/extract_databank.py.
 pub fn databank_path() -> String {
-    repo().join("tests/data/databank-teams.csv").display().to_string()
+    repo()
+        .join("tests/data/databank-teams.csv")
+        .display()
+        .to_string()
 }
 
 /// The `--map` options the Databank's headers need.
-pub const DATABANK_MAPS: [&str; 4] = ["season=yearID", "league=lgID", "team=teamID", "runs_scored=R"];
+pub const DATABANK_MAPS: [&str; 4] = [
+    "season=yearID",
+    "league=lgID",
+    "team=teamID",
+    "runs_scored=R",
+];
 
 pub fn databank(seasons: Option<&str>) -> Dataset {
     let opts = LoadOptions {
@@ -32,7 +40,8 @@ pub fn table(ds: &Dataset, weighting: Weighting) -> Table {
 
 /// Values computed by tests/reference/reference.py with scipy and statsmodels.
 pub fn reference() -> serde_json::Value {
-    let text = std::fs::read_to_string(repo().join("tests/reference/reference_values.json")).unwrap();
+    let text =
+        std::fs::read_to_string(repo().join("tests/reference/reference_values.json")).unwrap();
     serde_json::from_str(&text).unwrap()
 }
 
