@@ -51,7 +51,7 @@ pub enum DataError {
     #[error("{0}")]
     Rejected(Rejection),
     #[error(
-        "{file}: no column for {role} (looked for headers {looked_for}); name it with --map {role}=HEADER"
+        "{file}:1: no column for {role} (looked for headers {looked_for}); name it with --map {role}=HEADER"
     )]
     MissingRole {
         file: String,
@@ -59,7 +59,7 @@ pub enum DataError {
         looked_for: String,
     },
     #[error(
-        "{file}: columns '{first}' and '{second}' both look like {role}; choose one with --map {role}=HEADER"
+        "{file}:1: columns '{first}' and '{second}' both look like {role}; choose one with --map {role}=HEADER"
     )]
     AmbiguousRole {
         file: String,
@@ -68,7 +68,7 @@ pub enum DataError {
         second: String,
     },
     #[error(
-        "{file}: --map {role}={header}: the file has no header '{header}' (headers: {headers})"
+        "{file}:1: --map {role}={header}: the file has no header '{header}' (headers: {headers})"
     )]
     MappedHeaderMissing {
         file: String,
@@ -76,7 +76,7 @@ pub enum DataError {
         header: String,
         headers: String,
     },
-    #[error("{file}: the header appears twice: '{header}' (columns {first} and {second})")]
+    #[error("{file}:1: the header appears twice: '{header}' (columns {first} and {second})")]
     DuplicateHeader {
         file: String,
         header: String,

@@ -6,7 +6,16 @@ use std::path::{Path, PathBuf};
 
 use crate::error::Error;
 
+/// Whether two paths name one file: the same device and inode on Unix (so hard and symbolic links
+/// count), the same canonical path elsewhere.
 fn same_file(a: &Path, b: &Path) -> bool {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::MetadataExt;
+        if let (Ok(x), Ok(y)) = (std::fs::metadata(a), std::fs::metadata(b)) {
+            return x.dev() == y.dev() && x.ino() == y.ino();
+        }
+    }
     match (a.canonicalize(), b.canonicalize()) {
         (Ok(x), Ok(y)) => x == y,
         _ => false,

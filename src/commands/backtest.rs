@@ -6,8 +6,10 @@ use crate::fit::backtest::{self, Candidate, Scheme};
 use crate::fit::{self, Loss};
 use crate::report::BacktestReport;
 
-/// Compare models out of sample: hold out each season (or roll forward through them), fit on the
-/// rest, score the held-out season, and rank the pooled results.
+/// Compare models on seasons they were not fitted to.
+///
+/// Holds out each season (or rolls forward through them), fits on the rest (or on the seasons
+/// before), scores the held-out season, and ranks the pooled out-of-sample results.
 ///
 /// Example:
 ///   runcal backtest demo-data/meridian-league.csv --scheme rolling --min-train 5 --model all

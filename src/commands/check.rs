@@ -7,7 +7,9 @@ use crate::gate::{self, Bounds};
 use crate::profile::Profile;
 use crate::report::CheckReport;
 
-/// Score new season files with a saved calibration and refit it; fail (exit 1) when an error bound is
+/// Gate new season files against a saved calibration (exit 1 on failure).
+///
+/// Scores the new data with the saved calibration and refits it; fails when an error bound is
 /// exceeded or a refitted parameter drifts more than S standard errors from the saved one.
 ///
 /// Example:

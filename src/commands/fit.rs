@@ -7,7 +7,7 @@ use crate::model::{Model, ModelKind};
 use crate::report::FitReport;
 use crate::{luck, profile};
 
-/// Fit win-expectation models to team-season (or game-log) data.
+/// Fit win-expectation models to team-season (or game-log) data
 ///
 /// Fits the Pythagorean exponent (or PythagenPat's z, Pythagenport's a and b, the linear runs per win)
 /// by log-loss, MAE or RMSE, scores published references beside it, and lists the teams furthest
@@ -168,7 +168,11 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         // The first model named is the primary one; with several, the best by the loss.
         fit::rank(&mut fits);
         primary = fits[0].model.clone();
-        teams = luck::team_lines(&ds.rows, &table, &primary);
+        // JSON shows no team lines (the table, the CSV and the chart do): with a game log there is
+        // one per team-season.
+        if args.output.format != crate::cli::Format::Json || args.plot.is_some() {
+            teams = luck::team_lines(&ds.rows, &table, &primary);
+        }
     }
 
     if !args.grouped() {

@@ -8,7 +8,7 @@ use crate::luck;
 use crate::profile::Profile;
 use crate::report::{LuckReport, ModelSource};
 
-/// Rank teams by wins above or below what their runs scored and allowed predict.
+/// Rank teams by wins above or below what their runs scored and allowed predict
 ///
 /// Applies a saved calibration (--profile) or, without one, fits on the given data. Reports each team's
 /// expected wins, luck in wins and as a binomial z with its two-sided p-value, the one-run record

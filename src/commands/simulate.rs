@@ -8,9 +8,11 @@ use crate::model::Model;
 use crate::report::csv::safe;
 use crate::simulate::{self, Design, SeasonRow};
 
-/// Simulate a league whose scores are independent Weibull draws (Miller 2007), so the Pythagorean
-/// form holds with exponent = the Weibull shape; or, with --truth, team-seasons whose wins follow a
-/// given model exactly. Use it to test how many seasons pin an exponent down.
+/// Simulate a league with a known exponent.
+///
+/// Scores are independent Weibull draws (Miller 2007), so the Pythagorean form holds with exponent =
+/// the Weibull shape; with --truth, team-seasons whose wins follow a given model exactly. Use it to
+/// test how many seasons pin an exponent down.
 ///
 /// Example:
 ///   runcal simulate --teams 14 --seasons 25 --games 140 --exponent 1.83 --seed 7 --out league.csv

@@ -69,6 +69,42 @@ impl<R: Read> Read for LineLimit<R> {
                 }
                 return Ok(0);
             }
+            // Fast path: a chunk with no `\r`, not right after one, and no longer than the limit
+            // passes through unchanged; only the line count and the open line's length need
+            // updating, and only the chunk's first line can exceed the limit.
+            if !self.after_cr && n <= self.limit && !buf[..n].contains(&b'\r') {
+                let chunk = &buf[..n];
+                let first = chunk.iter().position(|&b| b == b'\n');
+                if self.current + first.unwrap_or(n) > self.limit {
+                    return Err(io::Error::new(
+                        io::ErrorKind::InvalidData,
+                        LineTooLong {
+                            line: self.line,
+                            limit: self.limit,
+                        },
+                    ));
+                }
+                match first {
+                    None => {
+                        self.current += n;
+                        self.open_line = true;
+                    }
+                    Some(first) => {
+                        let last = chunk.iter().rposition(|&b| b == b'\n').unwrap_or(first);
+                        // Counted with a byte-wide sum per block, which vectorises.
+                        let lines: u64 = chunk
+                            .chunks(255)
+                            .map(|c| {
+                                u64::from(c.iter().fold(0u8, |s, &b| s + u8::from(b == b'\n')))
+                            })
+                            .sum();
+                        self.line += lines;
+                        self.current = n - last - 1;
+                        self.open_line = self.current > 0;
+                    }
+                }
+                return Ok(n);
+            }
             let mut kept = 0;
             for i in 0..n {
                 let b = buf[i];

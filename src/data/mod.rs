@@ -157,11 +157,24 @@ impl Dataset {
 
     /// Checks that need the whole table: duplicates, odd game counts, very short seasons.
     pub(crate) fn finish(&mut self, skip_invalid: bool) -> Result<(), DataError> {
-        let mut seen: HashMap<(i32, Option<String>, String), Location> = HashMap::new();
-        let mut keep = Vec::with_capacity(self.rows.len());
-        for row in std::mem::take(&mut self.rows) {
-            let key = (row.season, row.league.clone(), row.team.clone());
-            if let Some(first) = seen.get(&key) {
+        // Keys borrow the rows' names, and duplicates are removed in place: no second copy of
+        // every name and row (a game log can hold tens of thousands of team-seasons).
+        let mut first_of: HashMap<(i32, Option<&str>, &str), usize> =
+            HashMap::with_capacity(self.rows.len());
+        let mut duplicates: Vec<(usize, usize)> = Vec::new();
+        for (i, row) in self.rows.iter().enumerate() {
+            match first_of.entry((row.season, row.league.as_deref(), row.team.as_str())) {
+                std::collections::hash_map::Entry::Occupied(e) => duplicates.push((i, *e.get())),
+                std::collections::hash_map::Entry::Vacant(e) => {
+                    e.insert(i);
+                }
+            }
+        }
+        drop(first_of);
+        if !duplicates.is_empty() {
+            let mut dropped = vec![false; self.rows.len()];
+            for &(i, first) in &duplicates {
+                let row = &self.rows[i];
                 let league = row
                     .league
                     .as_deref()
@@ -169,21 +182,18 @@ impl Dataset {
                     .unwrap_or_default();
                 let reason = format!(
                     "duplicate team-season {}{} {} (first at {})",
-                    row.season, league, row.team, first
+                    row.season, league, row.team, self.rows[first].at
                 );
-                self.reject(
-                    skip_invalid,
-                    Rejection {
-                        at: row.at.clone(),
-                        reason,
-                    },
-                )?;
-                continue;
+                let at = row.at.clone();
+                self.reject(skip_invalid, Rejection { at, reason })?;
+                dropped[i] = true;
             }
-            seen.insert(key, row.at.clone());
-            keep.push(row);
+            let mut k = 0;
+            self.rows.retain(|_| {
+                k += 1;
+                !dropped[k - 1]
+            });
         }
-        self.rows = keep;
 
         let odd: Vec<&TeamSeason> = self
             .rows

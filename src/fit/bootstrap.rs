@@ -5,15 +5,16 @@
 use std::collections::BTreeMap;
 use std::io::IsTerminal;
 
-use rand::{RngExt, SeedableRng};
+use rand::{Rng, RngExt, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
 
-use super::loss::{self, Metrics};
-use super::solve::{self, Problem};
+use super::loss::{self, Loss, Metrics};
+use super::solve::{self, Problem, PythagoreanSeries};
 use super::{Intervals, ModelFit};
 use crate::data::{Table, TeamSeason};
 use crate::error::FitError;
+use crate::model::ModelKind;
 
 /// What is drawn with replacement.
 #[derive(
@@ -47,6 +48,21 @@ fn stream(seed: u64, b: usize) -> ChaCha8Rng {
     rng
 }
 
+/// A uniform index below `n`: exactly the draws of rand's `random_range(0..n)` for `n` up to
+/// u32::MAX (Canon's method: the high half of one u32 times n, and a second u32 only in the rare
+/// case where the first could be biased; a test pins the equivalence), written out so that the
+/// bootstrap's inner loop does not call a sampler per draw.
+#[inline]
+fn below(rng: &mut ChaCha8Rng, n: u32) -> usize {
+    let m = u64::from(rng.next_u32()) * u64::from(n);
+    let (mut hi, lo) = ((m >> 32) as u32, m as u32);
+    if lo > n.wrapping_neg() {
+        let hi2 = ((u64::from(rng.next_u32()) * u64::from(n)) >> 32) as u32;
+        hi += u32::from(lo.checked_add(hi2).is_none());
+    }
+    hi as usize
+}
+
 /// Row multiplicities of resample `b`.
 pub fn weights(
     n: usize,
@@ -60,11 +76,18 @@ pub fn weights(
     counts.resize(n, 0.0);
     let mut rng = stream(seed, b);
     match resample {
-        Resample::Team => {
-            for _ in 0..n {
-                counts[rng.random_range(0..n)] += 1.0;
+        Resample::Team => match u32::try_from(n) {
+            Ok(n32) => {
+                for _ in 0..n {
+                    counts[below(&mut rng, n32)] += 1.0;
+                }
             }
-        }
+            Err(_) => {
+                for _ in 0..n {
+                    counts[rng.random_range(0..n)] += 1.0;
+                }
+            }
+        },
         Resample::Season => {
             for _ in 0..seasons.len() {
                 for &i in &seasons[rng.random_range(0..seasons.len())] {
@@ -72,6 +95,75 @@ pub fn weights(
                 }
             }
         }
+    }
+}
+
+/// Per-thread buffers of one resample.
+#[derive(Default)]
+struct Scratch {
+    counts: Vec<f64>,
+    /// Indices of the rows drawn at least once, ascending.
+    drawn: Vec<u32>,
+    /// p̂ of each drawn row.
+    predictions: Vec<f64>,
+}
+
+impl Scratch {
+    /// Any model and loss: refit with the general solver, then score.
+    fn general(
+        &self,
+        t: &Table,
+        kind: ModelKind,
+        loss: Loss,
+        start: &[f64],
+    ) -> Option<(Vec<f64>, Metrics)> {
+        let p = Problem {
+            table: t,
+            kind,
+            loss,
+            counts: Some(&self.counts),
+        };
+        let out = solve::fit(p, Some(start)).ok()?;
+        if !out.params.iter().all(|v| v.is_finite()) {
+            return None;
+        }
+        let m = loss::metrics(t, kind, &out.params, Some(&self.counts));
+        Some((out.params, m))
+    }
+
+    /// The Pythagorean log-loss: the general path's numbers from one pass of exp over the rows
+    /// instead of six (and no ln). The optimum is predicted from the log-loss's Taylor series at the
+    /// full-data exponent (dot products, no exp), then checked by an exact Newton step computed in
+    /// the same pass as the metrics: when that step is within Newton's own tolerance (1e-12·x) the
+    /// prediction stands, corrected by the step; otherwise the general path runs.
+    fn pythagorean(
+        &mut self,
+        t: &Table,
+        series: &PythagoreanSeries,
+    ) -> Option<(Vec<f64>, Metrics)> {
+        let n = t.len();
+        // About a third of the rows are not drawn; branch-free compaction (always write the index,
+        // advance only past drawn rows) keeps that unpredictable branch out of the passes below.
+        self.drawn.clear();
+        self.drawn.resize(n, 0);
+        let mut k = 0;
+        for i in 0..n {
+            self.drawn[k] = i as u32;
+            k += usize::from(self.counts[i] != 0.0);
+        }
+        self.drawn.truncate(k);
+        let sums = series.sums(&self.counts, &self.drawn);
+        let x = sums.optimum()?;
+        let (m, step) = loss::pythagorean_metrics(
+            t,
+            x,
+            &self.counts,
+            &self.drawn,
+            &sums,
+            series,
+            &mut self.predictions,
+        );
+        (step.abs() <= 1e-12 * x.max(1.0)).then(|| (vec![x + step], m))
     }
 }
 
@@ -133,23 +225,29 @@ pub fn run(
     };
     let kind = fit.model.kind;
     let start = fit.model.params.clone();
+    // The Pythagorean log-loss (the default fit) has a specialised resample; see `Scratch`.
+    let fast = (kind == ModelKind::Pythagorean && fit.loss == Loss::Logloss)
+        .then(|| PythagoreanSeries::new(t, start[0]))
+        .flatten();
     let draws: Vec<Option<(Vec<f64>, Metrics)>> = (0..opts.resamples)
         .into_par_iter()
-        .map_init(Vec::new, |counts, b| {
-            weights(t.len(), &seasons, opts.resample, opts.seed, b, counts);
-            let p = Problem {
-                table: t,
-                kind,
-                loss: fit.loss,
-                counts: Some(counts),
+        .map_init(Scratch::default, |s, b| {
+            weights(
+                t.len(),
+                &seasons,
+                opts.resample,
+                opts.seed,
+                b,
+                &mut s.counts,
+            );
+            let out = match &fast {
+                Some(series) => s
+                    .pythagorean(t, series)
+                    .or_else(|| s.general(t, kind, fit.loss, &start)),
+                None => s.general(t, kind, fit.loss, &start),
             };
-            let out = solve::fit(p, Some(&start)).ok();
             bar.inc(1);
-            out.filter(|o| o.params.iter().all(|v| v.is_finite()))
-                .map(|o| {
-                    let m = loss::metrics(t, kind, &o.params, Some(counts));
-                    (o.params, m)
-                })
+            out
         })
         .collect();
     bar.finish_and_clear();
@@ -203,6 +301,73 @@ mod tests {
         // numpy.percentile([1, 2, 3, 4], 25) = 1.75 (linear interpolation, numpy's default).
         assert!((percentile(&[1.0, 2.0, 3.0, 4.0], 0.25) - 1.75).abs() < 1e-12);
         assert_eq!(percentile(&[5.0], 0.9), 5.0);
+    }
+
+    fn databank(weighting: crate::data::Weighting) -> (Table, Vec<TeamSeason>) {
+        let path = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/data/databank-teams.csv");
+        let maps = [
+            "season=yearID",
+            "league=lgID",
+            "team=teamID",
+            "runs_scored=R",
+        ];
+        let opts = crate::data::LoadOptions {
+            maps: maps.iter().map(|m| m.parse().unwrap()).collect(),
+            ..Default::default()
+        };
+        let ds = crate::data::load(&[path.to_string()], false, None, &opts).unwrap();
+        let t = Table::new(&ds.rows, crate::data::TiePolicy::Half, weighting);
+        (t, ds.rows)
+    }
+
+    #[test]
+    fn pythagorean_resamples_match_the_general_solver() {
+        use crate::data::Weighting;
+        let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * a.abs().max(b.abs());
+        for (weighting, resample) in [
+            (Weighting::None, Resample::Team),
+            (Weighting::Games, Resample::Season),
+        ] {
+            let (t, rows) = databank(weighting);
+            let seasons = season_index(&rows);
+            let full = crate::fit::fit_model(&t, ModelKind::Pythagorean, Loss::Logloss).unwrap();
+            let start = full.model.params;
+            let series = PythagoreanSeries::new(&t, start[0]).unwrap();
+            let mut s = Scratch::default();
+            let mut predicted = 0;
+            for b in 0..200 {
+                weights(t.len(), &seasons, resample, 11, b, &mut s.counts);
+                let (gp, gm) = s
+                    .general(&t, ModelKind::Pythagorean, Loss::Logloss, &start)
+                    .unwrap();
+                if let Some((fp, fm)) = s.pythagorean(&t, &series) {
+                    predicted += 1;
+                    assert!(close(fp[0], gp[0]), "{b}: {fp:?} vs {gp:?}");
+                    for (f, g) in [
+                        (fm.mae, gm.mae),
+                        (fm.rmse, gm.rmse),
+                        (fm.logloss, gm.logloss),
+                        (fm.bias, gm.bias),
+                        (fm.max_abs, gm.max_abs),
+                        (fm.rmse_wins, gm.rmse_wins),
+                    ] {
+                        assert!(close(f, g), "{b}: {fm:?} vs {gm:?}");
+                    }
+                }
+            }
+            // Only a prediction far from the full-data optimum takes the general path.
+            assert!(predicted >= 190, "{predicted} of 200 predicted");
+        }
+    }
+
+    #[test]
+    fn below_draws_what_random_range_draws() {
+        for n in [1u32, 2, 3, 7, 2955, 61_740, 1 << 31, u32::MAX] {
+            let (mut a, mut b) = (stream(5, n as usize), stream(5, n as usize));
+            for _ in 0..10_000 {
+                assert_eq!(below(&mut a, n), b.random_range(0..n as usize));
+            }
+        }
     }
 
     #[test]

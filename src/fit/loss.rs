@@ -111,32 +111,48 @@ pub fn metrics(t: &Table, kind: ModelKind, params: &[f64], counts: Option<&[f64]
     metrics_with(t, counts, |i| predict(kind, params, &Row::of(t, i)))
 }
 
-/// [`metrics`] of the Pythagorean model with row multiplicities `counts`, reading only `rows` (the
-/// rows whose count is not zero, in ascending order): the bootstrap's fused pass, summed in the same
-/// order as [`metrics`]. A row's negative log-likelihood costs one exp and one ln instead of one exp
-/// and two ln: with e = exp(−x·l) and p̂ = 1/(1+e), −ln p̂ = ln(1+e) and −ln(1−p̂) = x·l + ln(1+e).
-/// Rows whose p̂ the log-loss clamps take the general formula.
-pub fn pythagorean_metrics(t: &Table, x: f64, counts: &[f64], rows: &[u32]) -> Metrics {
-    let mut sums = Sums::default();
-    for &i in rows {
-        let i = i as usize;
-        let l = t.ln_ratio[i];
-        let (p, nll) = if l.is_finite() {
-            let xl = x * l;
-            let e = (-xl).exp();
-            let p = 1.0 / (1.0 + e);
-            if p > LOGLOSS_CLAMP && p < 1.0 - LOGLOSS_CLAMP {
-                (p, t.decisions[i] * (1.0 + e).ln() + t.losses[i] * xl)
-            } else {
-                (p, row_nll(t.wins[i], t.losses[i], p))
-            }
-        } else {
-            let p = crate::model::pythagorean_pct(x, l);
-            (p, row_nll(t.wins[i], t.losses[i], p))
-        };
-        sums.add(t, i, counts[i], p, nll);
+/// [`metrics`] of the Pythagorean model at exponent `x` for the bootstrap, with row multiplicities
+/// `counts`, reading only `rows` (the rows whose count is not zero, in ascending order), and the
+/// exact Newton step of the log-loss at `x`, with which the bootstrap checks its predicted optimum.
+/// The log-loss comes from `series`; the rest needs each row's p̂, one exp per row. `scratch` holds
+/// the p̂ of each row.
+pub fn pythagorean_metrics(
+    t: &Table,
+    x: f64,
+    counts: &[f64],
+    rows: &[u32],
+    series: &crate::fit::solve::SeriesSums,
+    predictor: &crate::fit::solve::PythagoreanSeries,
+    scratch: &mut Vec<f64>,
+) -> (Metrics, f64) {
+    // The predictions first: from the series when it reaches, else by exp, alone in their loop
+    // because each call clobbers every vector register, so the running sums below would
+    // otherwise be spilled to memory and reloaded around every row.
+    if !predictor.predictions(x, rows, scratch) {
+        scratch.clear();
+        scratch.extend(
+            rows.iter()
+                .map(|&i| crate::model::pythagorean_pct(x, t.ln_ratio[i as usize])),
+        );
     }
-    sums.metrics()
+    let mut sums = Sums::default();
+    let (mut expected, mut hess) = (0.0, 0.0);
+    for (&i, &p) in rows.iter().zip(scratch.iter()) {
+        let i = i as usize;
+        let c = counts[i];
+        // The log-likelihood comes from the series below, so none is added here.
+        sums.add(t, i, c, p, 0.0);
+        let l = t.ln_ratio[i];
+        // An infinite ratio gives p̂ of exactly 0 or 1 whatever x is: no slope, no curvature.
+        if l.is_finite() {
+            let n = c * t.decisions[i];
+            expected += n * p * l;
+            hess += n * p * (1.0 - p) * l * l;
+        }
+    }
+    let mut m = sums.metrics();
+    m.logloss = series.nll(x) / sums.games;
+    (m, (series.wins_ln_ratio() - expected) / hess)
 }
 
 /// Every metric of given predictions, one per row (pooled out-of-sample predictions).

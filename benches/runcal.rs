@@ -1,0 +1,214 @@
+//! Criterion benchmarks of runcal's hot paths: loss evaluation per row, each model's fit, a
+//! bootstrap, a backtest and game-log aggregation. Data: the Baseball Databank team table in
+//! tests/data, and leagues simulated with `runcal::simulate`.
+//!
+//! `cargo bench` runs them all in a few minutes; `cargo bench -- bootstrap` runs one group.
+//! Whole-program comparisons with a numpy/scipy/pandas reference are in bench/compare.sh.
+
+use std::io::Write;
+use std::path::PathBuf;
+use std::time::Duration;
+
+use criterion::{BatchSize, BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
+use runcal::data::{self, Dataset, LoadOptions, Table, TiePolicy, Weighting};
+use runcal::fit::backtest::{self, Candidate, Scheme};
+use runcal::fit::bootstrap::{self, Resample};
+use runcal::fit::{self, Loss, loss};
+use runcal::model::ModelKind;
+use runcal::simulate::{self, Design};
+
+fn databank_path() -> String {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/data/databank-teams.csv")
+        .to_string_lossy()
+        .into_owned()
+}
+
+/// The Databank loaded the way `runcal fit … --map season=yearID --map league=lgID
+/// --map team=teamID --map runs_scored=R` loads it.
+fn databank() -> (Dataset, Table) {
+    let maps = [
+        "season=yearID",
+        "league=lgID",
+        "team=teamID",
+        "runs_scored=R",
+    ];
+    let opts = LoadOptions {
+        maps: maps.iter().map(|m| m.parse().unwrap()).collect(),
+        ..Default::default()
+    };
+    let ds = data::load(&[databank_path()], false, None, &opts).unwrap();
+    let t = Table::new(&ds.rows, TiePolicy::Half, Weighting::None);
+    (ds, t)
+}
+
+fn design(teams: usize, seasons: usize, games: usize) -> Design {
+    Design {
+        teams,
+        seasons,
+        games,
+        shape: 1.83,
+        runs_per_game: 4.5,
+        talent_sd: 0.08,
+        first_season: 1901,
+        league: "Meridian League".to_string(),
+        seed: 7,
+    }
+}
+
+/// A simulated team-season table, written as CSV and loaded back.
+fn simulated_seasons(teams: usize, seasons: usize) -> Table {
+    let rows = simulate::seasons(&design(teams, seasons, 162)).unwrap();
+    let mut file = tempfile::NamedTempFile::new().unwrap();
+    writeln!(
+        file,
+        "season,team,games,wins,losses,runs_scored,runs_allowed"
+    )
+    .unwrap();
+    for r in &rows {
+        writeln!(
+            file,
+            "{},{},{},{},{},{},{}",
+            r.season,
+            simulate::club_name(r.team),
+            r.games,
+            r.wins,
+            r.losses,
+            r.runs_scored,
+            r.runs_allowed
+        )
+        .unwrap();
+    }
+    file.flush().unwrap();
+    let path = file.path().to_string_lossy().into_owned();
+    let ds = data::load(&[path], false, None, &LoadOptions::default()).unwrap();
+    Table::new(&ds.rows, TiePolicy::Half, Weighting::None)
+}
+
+/// A simulated game log (one row per game, in date order) in a temporary file.
+fn simulated_game_log(teams: usize, seasons: usize) -> (tempfile::NamedTempFile, u64) {
+    let mut file = tempfile::NamedTempFile::new().unwrap();
+    let mut w = std::io::BufWriter::new(file.as_file_mut());
+    writeln!(w, "season,league,date,home,away,home_score,away_score").unwrap();
+    let d = design(teams, seasons, 162);
+    let mut n = 0;
+    simulate::games(&d, |g| {
+        n += 1;
+        writeln!(
+            w,
+            "{},{},{},{},{},{},{}",
+            g.season,
+            d.league,
+            g.date,
+            simulate::club_name(g.home),
+            simulate::club_name(g.away),
+            g.home_score,
+            g.away_score
+        )
+        .unwrap();
+    })
+    .unwrap();
+    w.flush().unwrap();
+    drop(w);
+    (file, n)
+}
+
+fn losses(c: &mut Criterion) {
+    let t = simulated_seasons(30, 1000);
+    let mut g = c.benchmark_group("loss_per_row");
+    g.throughput(Throughput::Elements(t.len() as u64));
+    for kind in ModelKind::ALL {
+        let params = kind.start();
+        for l in [Loss::Logloss, Loss::Mae, Loss::Rmse] {
+            g.bench_with_input(BenchmarkId::new(kind.name(), l.name()), &l, |b, &l| {
+                b.iter(|| loss::loss_value(&t, kind, &params, l, None))
+            });
+        }
+    }
+    g.bench_function("metrics/pythagorean", |b| {
+        b.iter(|| loss::metrics(&t, ModelKind::Pythagorean, &[1.83], None))
+    });
+    g.finish();
+}
+
+fn fits(c: &mut Criterion) {
+    let (_, t) = databank();
+    let mut g = c.benchmark_group("fit_databank");
+    for kind in ModelKind::ALL {
+        for l in [Loss::Logloss, Loss::Rmse] {
+            g.bench_with_input(BenchmarkId::new(kind.name(), l.name()), &l, |b, &l| {
+                b.iter(|| fit::fit_model(&t, kind, l).unwrap())
+            });
+        }
+    }
+    g.finish();
+}
+
+fn bootstraps(c: &mut Criterion) {
+    let (ds, t) = databank();
+    let mut g = c.benchmark_group("bootstrap_databank");
+    for (kind, resamples) in [(ModelKind::Pythagorean, 2000), (ModelKind::Linear, 200)] {
+        let f = fit::fit_model(&t, kind, Loss::Logloss).unwrap();
+        for resample in [Resample::Team, Resample::Season] {
+            let opts = bootstrap::Options {
+                resamples,
+                seed: 1,
+                resample,
+                level: 0.95,
+                progress: false,
+            };
+            let name = format!("{}_{resamples}", kind.name());
+            let id = BenchmarkId::new(name, format!("{resample:?}").to_lowercase());
+            g.bench_function(id, |b| {
+                b.iter(|| bootstrap::run(&t, &ds.rows, &f, &opts).unwrap())
+            });
+        }
+    }
+    g.finish();
+}
+
+fn backtests(c: &mut Criterion) {
+    let (ds, t) = databank();
+    let mut g = c.benchmark_group("backtest_databank");
+    let candidates = [
+        Candidate::Fit(ModelKind::Pythagorean),
+        Candidate::Fit(ModelKind::Pythagenpat),
+    ];
+    for scheme in [Scheme::LeaveOneSeasonOut, Scheme::Rolling] {
+        g.bench_function(scheme.name(), |b| {
+            b.iter(|| backtest::run(&ds.rows, &t, &candidates, Loss::Logloss, scheme, 10).unwrap())
+        });
+    }
+    g.finish();
+}
+
+fn game_logs(c: &mut Criterion) {
+    // 30 clubs, 20 seasons of 162 games: 48,600 games, 600 team-seasons.
+    let (file, games) = simulated_game_log(30, 20);
+    let path = file.path().to_string_lossy().into_owned();
+    let bytes = std::fs::metadata(file.path()).unwrap().len();
+    let mut g = c.benchmark_group("game_log");
+    g.throughput(Throughput::Bytes(bytes));
+    g.bench_function(format!("aggregate_{games}_games"), |b| {
+        b.iter_batched(
+            || vec![path.clone()],
+            |paths| data::load(&paths, true, None, &LoadOptions::default()).unwrap(),
+            BatchSize::SmallInput,
+        )
+    });
+    g.finish();
+}
+
+fn config() -> Criterion {
+    Criterion::default()
+        .sample_size(20)
+        .warm_up_time(Duration::from_millis(500))
+        .measurement_time(Duration::from_secs(2))
+}
+
+criterion_group! {
+    name = benches;
+    config = config();
+    targets = losses, fits, bootstraps, backtests, game_logs
+}
+criterion_main!(benches);
