@@ -217,6 +217,29 @@ pub struct SeasonRow {
     pub runs_allowed: u64,
 }
 
+impl SeasonRow {
+    /// The row as a loaded team-season (club names from the fictional league).
+    pub fn team_season(&self, league: Option<&str>) -> crate::data::TeamSeason {
+        crate::data::TeamSeason {
+            season: self.season,
+            league: league.map(str::to_string),
+            team: club_name(self.team),
+            wins: self.wins,
+            losses: self.losses,
+            ties: 0,
+            runs_scored: self.runs_scored as f64,
+            runs_allowed: self.runs_allowed as f64,
+            games: self.games,
+            one_run: None,
+            at: crate::error::Location {
+                file: "simulated".to_string(),
+                line: None,
+                column: None,
+            },
+        }
+    }
+}
+
 /// Team-season totals of a Weibull league.
 pub fn seasons(design: &Design) -> Result<Vec<SeasonRow>, String> {
     let n = design.teams;

@@ -240,24 +240,8 @@ fn demo_fit_recovers_the_league_exponent() {
     };
     let rows: Vec<runcal::data::TeamSeason> = runcal::simulate::seasons(&design)
         .unwrap()
-        .into_iter()
-        .map(|r| runcal::data::TeamSeason {
-            season: r.season,
-            league: None,
-            team: r.team.to_string(),
-            wins: r.wins,
-            losses: r.losses,
-            ties: 0,
-            runs_scored: r.runs_scored as f64,
-            runs_allowed: r.runs_allowed as f64,
-            games: r.games,
-            one_run: None,
-            at: runcal::error::Location {
-                file: "sim".into(),
-                line: None,
-                column: None,
-            },
-        })
+        .iter()
+        .map(|r| r.team_season(None))
         .collect();
     let t = runcal::data::Table::new(&rows, Default::default(), Default::default());
     let big = runcal::fit::fit_model(

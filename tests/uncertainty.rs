@@ -10,25 +10,7 @@ use runcal::model::{Model, ModelKind};
 use runcal::simulate::{self, Design, SeasonRow};
 
 fn rows_of(sim: Vec<SeasonRow>) -> Vec<TeamSeason> {
-    sim.into_iter()
-        .map(|r| TeamSeason {
-            season: r.season,
-            league: None,
-            team: simulate::club_name(r.team),
-            wins: r.wins,
-            losses: r.losses,
-            ties: 0,
-            runs_scored: r.runs_scored as f64,
-            runs_allowed: r.runs_allowed as f64,
-            games: r.games,
-            one_run: None,
-            at: runcal::error::Location {
-                file: "simulated".into(),
-                line: None,
-                column: None,
-            },
-        })
-        .collect()
+    sim.iter().map(|r| r.team_season(None)).collect()
 }
 
 fn design(seasons: usize, seed: u64) -> Design {

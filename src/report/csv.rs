@@ -2,7 +2,7 @@
 
 use std::borrow::Cow;
 
-use super::FitReport;
+use super::{FitReport, TeamLine};
 use crate::error::Error;
 
 /// Prefix a text cell that starts like a formula (`=`, `+`, `-`, `@`, tab, CR) with a quote, so that a
@@ -31,67 +31,68 @@ pub fn write_err(e: csv::Error) -> Error {
     Error::Usage(format!("csv output: {e}"))
 }
 
+/// The record columns every per-team CSV starts with.
+const TEAM_HEADER: [&str; 10] = [
+    "season",
+    "league",
+    "team",
+    "games",
+    "wins",
+    "losses",
+    "ties",
+    "runs_scored",
+    "runs_allowed",
+    "win_pct",
+];
+
+fn team_cells(t: &TeamLine) -> Vec<String> {
+    vec![
+        t.season.to_string(),
+        safe(t.league.as_deref().unwrap_or_default()).into_owned(),
+        safe(&t.team).into_owned(),
+        t.games.to_string(),
+        t.wins.to_string(),
+        t.losses.to_string(),
+        t.ties.to_string(),
+        cell(Some(t.runs_scored)),
+        cell(Some(t.runs_allowed)),
+        cell(Some(t.win_pct)),
+    ]
+}
+
 pub fn fit(r: &FitReport) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record([
-        "season",
-        "league",
-        "team",
-        "games",
-        "wins",
-        "losses",
-        "ties",
-        "runs_scored",
-        "runs_allowed",
-        "win_pct",
+    let extra = [
         "model",
         "exponent",
         "expected_win_pct",
         "expected_wins",
         "luck_wins",
-    ])
-    .map_err(write_err)?;
+    ];
+    w.write_record(TEAM_HEADER.iter().chain(&extra))
+        .map_err(write_err)?;
     let model = r
         .primary
         .as_ref()
         .map(|m| m.kind.name())
         .unwrap_or_default();
     for t in &r.teams {
-        w.write_record([
-            t.season.to_string(),
-            safe(t.league.as_deref().unwrap_or_default()).into_owned(),
-            safe(&t.team).into_owned(),
-            t.games.to_string(),
-            t.wins.to_string(),
-            t.losses.to_string(),
-            t.ties.to_string(),
-            cell(Some(t.runs_scored)),
-            cell(Some(t.runs_allowed)),
-            cell(Some(t.win_pct)),
+        let mut row = team_cells(t);
+        row.extend([
             model.to_string(),
             cell(t.exponent),
             cell(Some(t.expected_win_pct)),
             cell(Some(t.expected_wins)),
             cell(Some(t.luck_wins)),
-        ])
-        .map_err(write_err)?;
+        ]);
+        w.write_record(&row).map_err(write_err)?;
     }
     finish(w)
 }
 
 pub fn luck(r: &super::LuckReport) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record([
-        "season",
-        "league",
-        "team",
-        "games",
-        "wins",
-        "losses",
-        "ties",
-        "runs_scored",
-        "runs_allowed",
-        "win_pct",
+    let extra = [
         "expected_win_pct",
         "expected_wins",
         "luck_wins",
@@ -103,23 +104,15 @@ pub fn luck(r: &super::LuckReport) -> Result<Vec<u8>, Error> {
         "projected_wins",
         "projected_low_80",
         "projected_high_80",
-    ])
-    .map_err(write_err)?;
+    ];
+    w.write_record(TEAM_HEADER.iter().chain(&extra))
+        .map_err(write_err)?;
     let count = |v: Option<u64>| v.map(|x| x.to_string()).unwrap_or_default();
     for l in &r.teams {
         let t = &l.line;
         let p = l.projection.as_ref();
-        w.write_record([
-            t.season.to_string(),
-            safe(t.league.as_deref().unwrap_or_default()).into_owned(),
-            safe(&t.team).into_owned(),
-            t.games.to_string(),
-            t.wins.to_string(),
-            t.losses.to_string(),
-            t.ties.to_string(),
-            cell(Some(t.runs_scored)),
-            cell(Some(t.runs_allowed)),
-            cell(Some(t.win_pct)),
+        let mut row = team_cells(t);
+        row.extend([
             cell(Some(t.expected_win_pct)),
             cell(Some(t.expected_wins)),
             cell(Some(t.luck_wins)),
@@ -131,8 +124,8 @@ pub fn luck(r: &super::LuckReport) -> Result<Vec<u8>, Error> {
             cell(p.map(|p| p.projected_wins)),
             cell(p.map(|p| p.interval.0)),
             cell(p.map(|p| p.interval.1)),
-        ])
-        .map_err(write_err)?;
+        ]);
+        w.write_record(&row).map_err(write_err)?;
     }
     finish(w)
 }
