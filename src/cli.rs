@@ -84,6 +84,21 @@ impl InputArgs {
         }
     }
 
+    /// The same inputs read the way a saved calibration defines win% and weights.
+    pub fn as_in_profile(&self, p: &crate::profile::Profile) -> InputArgs {
+        InputArgs {
+            ties: match p.ties {
+                TiePolicy::Half => TiesArg::Half,
+                TiePolicy::Exclude => TiesArg::Exclude,
+            },
+            weight: match p.weight {
+                Weighting::None => WeightArg::None,
+                Weighting::Games => WeightArg::Games,
+            },
+            ..self.clone()
+        }
+    }
+
     pub fn tie_policy(&self) -> TiePolicy {
         match self.ties {
             TiesArg::Half => TiePolicy::Half,

@@ -1,6 +1,6 @@
 //! `runcal check`: the CI gate. Exit 1 when new data drift from the saved calibration.
 
-use crate::cli::{InputArgs, OutputArgs, TiesArg, WeightArg};
+use crate::cli::{InputArgs, OutputArgs};
 use crate::error::Error;
 use crate::fit::{self, loss};
 use crate::gate::{self, Bounds};
@@ -67,15 +67,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         )));
     }
     let profile = Profile::load(&args.profile)?;
-    let mut input = args.input.clone();
-    input.ties = match profile.ties {
-        crate::data::TiePolicy::Half => TiesArg::Half,
-        crate::data::TiePolicy::Exclude => TiesArg::Exclude,
-    };
-    input.weight = match profile.weight {
-        crate::data::Weighting::None => WeightArg::None,
-        crate::data::Weighting::Games => WeightArg::Games,
-    };
+    let input = args.input.as_in_profile(&profile);
     let (ds, table) = super::load(&input, None, &diag)?;
     let saved = profile.model();
     let scored = loss::metrics(&table, saved.kind, &saved.params, None);

@@ -56,14 +56,11 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     let files = &args.input.files;
     super::guard_outputs(&[args.output.output.as_ref(), args.plot.as_ref()], files)?;
     let profile = args.profile.as_deref().map(Profile::load).transpose()?;
-    let mut input = args.input.clone();
-    if let Some(p) = &profile {
-        // The calibration's own definition of win% applies to the new data.
-        input.ties = match p.ties {
-            crate::data::TiePolicy::Half => crate::cli::TiesArg::Half,
-            crate::data::TiePolicy::Exclude => crate::cli::TiesArg::Exclude,
-        };
-    }
+    // The calibration's own definition of win% applies to the new data.
+    let input = match &profile {
+        Some(p) => args.input.as_in_profile(p),
+        None => args.input.clone(),
+    };
     let (ds, table) = super::load(&input, args.as_of, &diag)?;
     let (model, source) = match (&profile, &args.profile, args.exponent) {
         (Some(p), Some(path), _) => (p.model(), ModelSource::Profile(path.clone())),

@@ -5,11 +5,17 @@ use comfy_table::{CellAlignment, Table, presets};
 use super::{FitReport, TeamLine, num, pct, record, signed};
 use crate::fit::ModelFit;
 
+/// An empty table in the house style.
+fn styled() -> Table {
+    let mut t = Table::new();
+    t.load_style(presets::UTF8_FULL_CONDENSED.with_rounded_corners());
+    t
+}
+
 /// A table in the house style; numeric columns (all but the first `text_cols`) right-aligned.
 pub fn new_table(header: &[&str], text_cols: usize) -> Table {
-    let mut t = Table::new();
-    t.load_style(presets::UTF8_FULL_CONDENSED.with_rounded_corners())
-        .set_header(header.iter().copied());
+    let mut t = styled();
+    t.set_header(header.iter().copied());
     for (i, col) in t.column_iter_mut().enumerate() {
         if i >= text_cols {
             col.set_cell_alignment(CellAlignment::Right);
@@ -37,9 +43,8 @@ pub fn folded_table(
         .filter(|c| !keep.contains(c))
         .map(|c| (header[c].to_string(), rows[0][c].clone()))
         .collect();
-    let mut t = Table::new();
-    t.load_style(presets::UTF8_FULL_CONDENSED.with_rounded_corners())
-        .set_header(keep.iter().map(|&c| header[c]));
+    let mut t = styled();
+    t.set_header(keep.iter().map(|&c| header[c]));
     for r in rows {
         t.add_row(keep.iter().map(|&c| r[c].clone()));
     }
