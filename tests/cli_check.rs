@@ -2,16 +2,9 @@
 
 mod common;
 
-use assert_cmd::Command;
-use common::repo;
+use common::{repo, runcal};
 use predicates::str::contains;
 use serde_json::Value;
-
-fn runcal() -> Command {
-    let mut c = Command::cargo_bin("runcal").unwrap();
-    c.current_dir(repo());
-    c
-}
 
 /// A profile fitted in the test on the demo history, and a directory for new season files.
 fn setup() -> (tempfile::TempDir, std::path::PathBuf) {

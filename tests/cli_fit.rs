@@ -2,15 +2,8 @@
 
 mod common;
 
-use assert_cmd::Command;
-use common::{DATABANK_MAPS, close, databank_path, f, reference, repo};
+use common::{DATABANK_MAPS, close, databank_path, f, reference, repo, runcal};
 use serde_json::Value;
-
-fn runcal() -> Command {
-    let mut c = Command::cargo_bin("runcal").unwrap();
-    c.current_dir(repo());
-    c
-}
 
 fn databank_fit(extra: &[&str]) -> Value {
     let mut cmd = runcal();

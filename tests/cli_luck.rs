@@ -3,14 +3,8 @@
 mod common;
 
 use assert_cmd::Command;
-use common::{close, f, repo};
+use common::{close, f, runcal};
 use serde_json::Value;
-
-fn runcal() -> Command {
-    let mut c = Command::cargo_bin("runcal").unwrap();
-    c.current_dir(repo());
-    c
-}
 
 fn json(cmd: &mut Command) -> Value {
     serde_json::from_slice(&cmd.assert().success().get_output().stdout).unwrap()

@@ -5,6 +5,13 @@ use std::path::PathBuf;
 
 use runcal::data::{self, Dataset, LoadOptions, SeasonRange, Table, TiePolicy, Weighting};
 
+/// The runcal binary, run from the repository root.
+pub fn runcal() -> assert_cmd::Command {
+    let mut c = assert_cmd::Command::cargo_bin("runcal").unwrap();
+    c.current_dir(repo());
+    c
+}
+
 pub fn repo() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
 }
