@@ -5,8 +5,6 @@
 //! model predicts best out of sample, and ranks teams whose record runs ahead of or behind their
 //! scoring. The binary `runcal` is a thin driver over this library.
 
-pub mod cli;
-pub mod commands;
 pub mod data;
 pub mod error;
 pub mod fit;
@@ -20,33 +18,6 @@ pub mod simulate;
 
 pub use error::{Error, Result};
 
-/// Run one parsed command line; returns the process exit code.
-pub fn run(cli: cli::Cli) -> Result<u8> {
-    use cli::Command;
-    match cli.command {
-        Command::Fit(a) => commands::fit::run(&a),
-        Command::Luck(a) => commands::luck::run(&a),
-        Command::Backtest(a) => commands::backtest::run(&a),
-        Command::Check(a) => commands::check::run(&a),
-        Command::Simulate(a) => commands::simulate::run(&a),
-        Command::Completions { shell } => {
-            let mut cmd = <cli::Cli as clap::CommandFactory>::command();
-            let mut out = Vec::new();
-            clap_complete::generate(shell, &mut cmd, "runcal", &mut out);
-            output::emit(None, &[], &out)?;
-            Ok(0)
-        }
-        Command::Man => {
-            let cmd = <cli::Cli as clap::CommandFactory>::command();
-            let mut out = Vec::new();
-            clap_mangen::Man::new(cmd)
-                .render(&mut out)
-                .map_err(|source| Error::Write {
-                    file: "<stdout>".to_string(),
-                    source,
-                })?;
-            output::emit(None, &[], &out)?;
-            Ok(0)
-        }
-    }
-}
+/// The caution every output that shows luck or projections carries.
+pub const CAUTION: &str = "runcal reports descriptive statistics. It is not wagering or financial advice, \
+and luck estimates are uncertain: a team far ahead of its scoring may simply have been lucky, or not.";

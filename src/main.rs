@@ -5,8 +5,10 @@ use std::process::ExitCode;
 
 use clap::Parser;
 
+mod app;
+
 fn main() -> ExitCode {
-    let cli = match runcal::cli::Cli::try_parse() {
+    let cli = match app::cli::Cli::try_parse() {
         Ok(cli) => cli,
         Err(e) => {
             // Help and version are successes; anything else is a usage error (exit 2).
@@ -15,7 +17,7 @@ fn main() -> ExitCode {
             return ExitCode::from(code);
         }
     };
-    match runcal::run(cli) {
+    match app::run(cli) {
         Ok(code) => ExitCode::from(code),
         Err(e) => {
             eprintln!("runcal: error: {e}");

@@ -4,7 +4,6 @@ use std::collections::BTreeMap;
 
 use serde::{Deserialize, Serialize};
 
-use crate::cli::InputArgs;
 use crate::data::{Dataset, Table, TeamSeason, TiePolicy, Weighting};
 use crate::error::{Error, ProfileError};
 use crate::fit::{Loss, ModelFit};
@@ -123,7 +122,8 @@ impl Profile {
         f: &ModelFit,
         ds: &Dataset,
         t: &Table,
-        input: &InputArgs,
+        ties: TiePolicy,
+        weight: Weighting,
         files: &[String],
     ) -> Result<Profile, Error> {
         let names = f.model.kind.param_names();
@@ -137,8 +137,8 @@ impl Profile {
             model: f.model.kind,
             params: named(names, &f.model.params),
             loss: f.loss,
-            ties: input.tie_policy(),
-            weight: input.weighting(),
+            ties,
+            weight,
             std_errors: f.std_errors.as_ref().map(|s| named(names, &s.corrected)),
             std_errors_binomial: f.std_errors.as_ref().map(|s| named(names, &s.binomial)),
             dispersion: f.std_errors.as_ref().map(|s| s.dispersion),

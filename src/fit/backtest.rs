@@ -9,7 +9,7 @@ use crate::error::FitError;
 use crate::model::{Model, ModelKind, Row, predict};
 
 /// How seasons are held out.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Scheme {
     /// Fit on every other season, score each season in turn.
     LeaveOneSeasonOut,

@@ -17,9 +17,7 @@ use crate::error::FitError;
 use crate::model::ModelKind;
 
 /// What is drawn with replacement.
-#[derive(
-    Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum, serde::Serialize, serde::Deserialize,
-)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Resample {
     /// Team-seasons, independently.

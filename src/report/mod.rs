@@ -6,8 +6,15 @@ pub mod json;
 pub mod svg;
 pub mod table;
 
-use crate::cli::Format;
 use crate::error::Error;
+
+/// Output format.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    Table,
+    Json,
+    Csv,
+}
 
 /// A command's result that every format can print.
 pub trait Report {

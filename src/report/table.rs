@@ -463,7 +463,7 @@ pub fn luck(r: &super::LuckReport) -> String {
     out.push_str(&format!(
         "signal: |z| >= {} (binomial z of wins over expected). {}\n",
         crate::luck::NOTABLE_Z,
-        crate::cli::CAUTION
+        crate::CAUTION
     ));
     out
 }

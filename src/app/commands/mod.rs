@@ -6,12 +6,12 @@ pub mod fit;
 pub mod luck;
 pub mod simulate;
 
-use crate::cli::{InputArgs, OutputArgs};
-use crate::data::{self, Dataset, Table, gamelog::Date};
-use crate::error::Error;
-use crate::model::ModelKind;
-use crate::output::Diagnostics;
-use crate::report::{self, Report};
+use crate::app::cli::{InputArgs, OutputArgs};
+use runcal::data::{self, Dataset, Table, gamelog::Date};
+use runcal::error::Error;
+use runcal::model::ModelKind;
+use runcal::output::Diagnostics;
+use runcal::report::{self, Report};
 
 /// Exit code of a check that ran and failed.
 pub const EXIT_CHECK_FAILED: u8 = 1;
@@ -39,9 +39,9 @@ pub fn load(
 
 /// Render and write a report.
 pub fn emit(report: &dyn Report, out: &OutputArgs, inputs: &[String]) -> Result<(), Error> {
-    let bytes = report::render(report, out.format)?;
+    let bytes = report::render(report, out.format.into())?;
     let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
-    crate::output::emit(out.output.as_deref(), &inputs, &bytes)
+    runcal::output::emit(out.output.as_deref(), &inputs, &bytes)
 }
 
 /// Parse `--model a,b` or `all`, keeping the user's order and dropping repeats.
@@ -69,7 +69,7 @@ pub fn season_span(ds: &Dataset) -> Option<(i32, i32)> {
 pub fn guard_outputs(outputs: &[Option<&String>], inputs: &[String]) -> Result<(), Error> {
     let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
     for o in outputs.iter().flatten() {
-        crate::output::check_not_input(o, &inputs)?;
+        runcal::output::check_not_input(o, &inputs)?;
     }
     Ok(())
 }

@@ -1,11 +1,11 @@
 //! `runcal check`: the CI gate. Exit 1 when new data drift from the saved calibration.
 
-use crate::cli::{InputArgs, OutputArgs};
-use crate::error::Error;
-use crate::fit::{self, loss};
-use crate::gate::{self, Bounds};
-use crate::profile::Profile;
-use crate::report::CheckReport;
+use crate::app::cli::{InputArgs, OutputArgs};
+use runcal::error::Error;
+use runcal::fit::{self, loss};
+use runcal::gate::{self, Bounds};
+use runcal::profile::Profile;
+use runcal::report::CheckReport;
 
 /// Gate new season files against a saved calibration (exit 1 on failure).
 ///
@@ -95,7 +95,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         rules,
     };
     super::emit(&report, &args.output, files)?;
-    if !passed && args.output.format != crate::cli::Format::Table {
+    if !passed && args.output.format != crate::app::cli::FormatArg::Table {
         // Machine formats go to stdout; the reason still reaches a person reading the CI log.
         diag.warn(&report.verdict);
     }

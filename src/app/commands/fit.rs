@@ -1,11 +1,11 @@
 //! `runcal fit`: fit a league's exponent (or every model) and compare with published references.
 
-use crate::cli::{InputArgs, OutputArgs};
-use crate::error::Error;
-use crate::fit::{self, GroupBy, Loss, ModelFit, bootstrap};
-use crate::model::{Model, ModelKind};
-use crate::report::FitReport;
-use crate::{luck, profile};
+use crate::app::cli::{InputArgs, LossArg, OutputArgs, ResampleArg};
+use runcal::error::Error;
+use runcal::fit::{self, GroupBy, Loss, ModelFit, bootstrap};
+use runcal::model::{Model, ModelKind};
+use runcal::report::FitReport;
+use runcal::{luck, profile};
 
 /// Fit win-expectation models to team-season (or game-log) data
 ///
@@ -49,8 +49,8 @@ pub struct Args {
     #[arg(long, default_value_t = 1, value_name = "S")]
     pub seed: u64,
     /// Resample team-seasons, or whole seasons (keeps within-season dependence).
-    #[arg(long, value_enum, default_value_t = bootstrap::Resample::Team)]
-    pub resample: bootstrap::Resample,
+    #[arg(long, value_enum, default_value_t = ResampleArg::Team)]
+    pub resample: ResampleArg,
     /// Coverage of the bootstrap intervals.
     #[arg(long, default_value_t = 0.95, value_name = "L")]
     pub ci_level: f64,
@@ -65,23 +65,6 @@ pub struct Args {
     pub top: usize,
     #[command(flatten)]
     pub output: OutputArgs,
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
-pub enum LossArg {
-    Mae,
-    Rmse,
-    Logloss,
-}
-
-impl From<LossArg> for Loss {
-    fn from(l: LossArg) -> Loss {
-        match l {
-            LossArg::Mae => Loss::Mae,
-            LossArg::Rmse => Loss::Rmse,
-            LossArg::Logloss => Loss::Logloss,
-        }
-    }
 }
 
 pub fn run(args: &Args) -> Result<u8, Error> {
@@ -170,7 +153,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         primary = fits[0].model.clone();
         // JSON shows no team lines (the table, the CSV and the chart do): with a game log there is
         // one per team-season.
-        if args.output.format != crate::cli::Format::Json || args.plot.is_some() {
+        if args.output.format != crate::app::cli::FormatArg::Json || args.plot.is_some() {
             teams = luck::team_lines(&ds.rows, &table, &primary);
         }
     }
@@ -200,13 +183,20 @@ pub fn run(args: &Args) -> Result<u8, Error> {
                     "--save-profile needs a fit over all rows (not --by or --exponent)".to_string(),
                 )
             })?;
-        let p = profile::Profile::from_fit(f, &ds, &table, &args.input, files)?;
+        let p = profile::Profile::from_fit(
+            f,
+            &ds,
+            &table,
+            args.input.tie_policy(),
+            args.input.weighting(),
+            files,
+        )?;
         p.save(path)?;
         diag.note(&format!("saved calibration to {path}"));
     }
     if let Some(path) = &args.plot {
         let curve = fit::loss_curve(&table, &primary, loss);
-        crate::report::svg::write_fit_plot(path, &curve, &teams)?;
+        runcal::report::svg::write_fit_plot(path, &curve, &teams)?;
         diag.note(&format!("wrote {path}"));
     }
 
@@ -232,11 +222,11 @@ impl Args {
     }
 }
 
-fn boot_options(args: &Args, diag: &crate::output::Diagnostics) -> bootstrap::Options {
+fn boot_options(args: &Args, diag: &runcal::output::Diagnostics) -> bootstrap::Options {
     bootstrap::Options {
         resamples: args.bootstrap,
         seed: args.seed,
-        resample: args.resample,
+        resample: args.resample.into(),
         level: args.ci_level,
         progress: !diag.quiet,
     }

@@ -3,11 +3,10 @@
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
-use crate::commands;
-use crate::data::{self, Mapping, SeasonRange, TiePolicy, Weighting};
-
-pub const CAUTION: &str = "runcal reports descriptive statistics. It is not wagering or financial advice, \
-and luck estimates are uncertain: a team far ahead of its scoring may simply have been lucky, or not.";
+use crate::app::commands;
+use runcal::data::{self, Mapping, SeasonRange, TiePolicy, Weighting};
+use runcal::fit::{Loss, backtest::Scheme, bootstrap::Resample};
+use runcal::report::Format;
 
 const AFTER_HELP: &str = "\
 Exit codes: 0 success, 1 a check failed (runcal check), 2 bad input or usage.
@@ -85,61 +84,87 @@ impl InputArgs {
     }
 
     /// The same inputs read the way a saved calibration defines win% and weights.
-    pub fn as_in_profile(&self, p: &crate::profile::Profile) -> InputArgs {
+    pub fn as_in_profile(&self, p: &runcal::profile::Profile) -> InputArgs {
         InputArgs {
-            ties: match p.ties {
-                TiePolicy::Half => TiesArg::Half,
-                TiePolicy::Exclude => TiesArg::Exclude,
-            },
-            weight: match p.weight {
-                Weighting::None => WeightArg::None,
-                Weighting::Games => WeightArg::Games,
-            },
+            ties: p.ties.into(),
+            weight: p.weight.into(),
             ..self.clone()
         }
     }
 
     pub fn tie_policy(&self) -> TiePolicy {
-        match self.ties {
-            TiesArg::Half => TiePolicy::Half,
-            TiesArg::Exclude => TiePolicy::Exclude,
-        }
+        self.ties.into()
     }
 
     pub fn weighting(&self) -> Weighting {
-        match self.weight {
-            WeightArg::None => Weighting::None,
-            WeightArg::Games => Weighting::Games,
-        }
+        self.weight.into()
     }
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum TiesArg {
-    Half,
-    Exclude,
+/// A clap mirror of a core enum (the core carries no clap derive): the same variants, converted both
+/// ways. Variant doc comments become the help of each possible value.
+macro_rules! value_mirror {
+    ($(#[$meta:meta])* $name:ident => $core:ident { $($(#[$vmeta:meta])* $variant:ident),+ $(,)? }) => {
+        $(#[$meta])*
+        #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+        pub enum $name {
+            $($(#[$vmeta])* $variant),+
+        }
+        impl From<$name> for $core {
+            fn from(v: $name) -> $core {
+                match v { $($name::$variant => $core::$variant),+ }
+            }
+        }
+        impl From<$core> for $name {
+            fn from(v: $core) -> $name {
+                match v { $($core::$variant => $name::$variant),+ }
+            }
+        }
+    };
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum WeightArg {
-    None,
-    Games,
-}
-
-/// Output format.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum Format {
-    Table,
-    Json,
-    Csv,
-}
+value_mirror!(TiesArg => TiePolicy { Half, Exclude });
+value_mirror!(WeightArg => Weighting { None, Games });
+value_mirror!(
+    /// Output format.
+    FormatArg => Format { Table, Json, Csv }
+);
+value_mirror!(
+    /// What a fit minimises.
+    LossArg => Loss {
+        /// Mean absolute error in win%.
+        Mae,
+        /// Root mean squared error in win%.
+        Rmse,
+        /// Binomial log-likelihood per game.
+        Logloss,
+    }
+);
+value_mirror!(
+    /// What the bootstrap draws with replacement.
+    ResampleArg => Resample {
+        /// Team-seasons, independently.
+        Team,
+        /// Whole seasons, keeping every team of a drawn season together.
+        Season,
+    }
+);
+value_mirror!(
+    /// How a backtest holds seasons out.
+    SchemeArg => Scheme {
+        /// Fit on every other season, score each season in turn.
+        LeaveOneSeasonOut,
+        /// Fit on all seasons before Y, score Y ("calibrate before the season").
+        Rolling,
+    }
+);
 
 /// Where and how results are written.
 #[derive(Debug, Clone, Args)]
 pub struct OutputArgs {
     /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Table)]
-    pub format: Format,
+    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
+    pub format: FormatArg,
     /// Write the result to FILE (atomically) instead of stdout.
     #[arg(long, short = 'o', value_name = "FILE")]
     pub output: Option<String>,

@@ -2,11 +2,11 @@
 
 use std::io::Write;
 
-use crate::cli::Format;
-use crate::error::Error;
-use crate::model::Model;
-use crate::report::csv::safe;
-use crate::simulate::{self, Design, SeasonRow};
+use crate::app::cli::FormatArg as Format;
+use runcal::error::Error;
+use runcal::model::Model;
+use runcal::report::csv::safe;
+use runcal::simulate::{self, Design, SeasonRow};
 
 /// Simulate a league with a known exponent.
 ///
@@ -102,13 +102,13 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     match &args.out {
         Some(path) => {
             // Streamed into a temporary file beside the target, renamed into place only when complete.
-            let tmp = crate::output::temp_beside(path)?;
+            let tmp = runcal::output::temp_beside(path)?;
             let mut w = std::io::BufWriter::with_capacity(1 << 20, tmp);
             write_league(&mut w, &design, args, path)?;
             let tmp = w
                 .into_inner()
                 .map_err(|e| write_err(path)(e.into_error()))?;
-            crate::output::commit(tmp, path)?;
+            runcal::output::commit(tmp, path)?;
             if !args.quiet {
                 eprintln!("note: wrote {path}");
             }
@@ -183,7 +183,7 @@ fn render(rows: &[SeasonRow], design: &Design, format: Format) -> Result<Vec<u8>
                 "runs_scored",
                 "runs_allowed",
             ])
-            .map_err(crate::report::csv::write_err)?;
+            .map_err(runcal::report::csv::write_err)?;
             for r in rows {
                 w.write_record([
                     r.season.to_string(),
@@ -195,9 +195,9 @@ fn render(rows: &[SeasonRow], design: &Design, format: Format) -> Result<Vec<u8>
                     r.runs_scored.to_string(),
                     r.runs_allowed.to_string(),
                 ])
-                .map_err(crate::report::csv::write_err)?;
+                .map_err(runcal::report::csv::write_err)?;
             }
-            crate::report::csv::finish(w)
+            runcal::report::csv::finish(w)
         }
         Format::Json => {
             let v = serde_json::json!({
@@ -216,7 +216,7 @@ fn render(rows: &[SeasonRow], design: &Design, format: Format) -> Result<Vec<u8>
             Ok(s.into_bytes())
         }
         Format::Table => {
-            let mut t = crate::report::table::new_table(
+            let mut t = runcal::report::table::new_table(
                 &["season", "team", "games", "record", "runs", "runs allowed"],
                 2,
             );
@@ -225,7 +225,7 @@ fn render(rows: &[SeasonRow], design: &Design, format: Format) -> Result<Vec<u8>
                     r.season.to_string(),
                     simulate::club_name(r.team),
                     r.games.to_string(),
-                    crate::report::record(r.wins, r.losses, 0),
+                    runcal::report::record(r.wins, r.losses, 0),
                     r.runs_scored.to_string(),
                     r.runs_allowed.to_string(),
                 ]);

@@ -1,12 +1,12 @@
 //! `runcal luck`: the weekly report of teams ahead of or behind their scoring, with projections.
 
-use crate::cli::{InputArgs, OutputArgs};
-use crate::data::gamelog::Date;
-use crate::error::Error;
-use crate::fit::{self, Loss};
-use crate::luck;
-use crate::profile::Profile;
-use crate::report::{LuckReport, ModelSource};
+use crate::app::cli::{InputArgs, OutputArgs};
+use runcal::data::gamelog::Date;
+use runcal::error::Error;
+use runcal::fit::{self, Loss};
+use runcal::luck;
+use runcal::profile::Profile;
+use runcal::report::{LuckReport, ModelSource};
 
 /// Rank teams by wins above or below what their runs scored and allowed predict
 ///
@@ -71,7 +71,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
                 )));
             }
             (
-                crate::model::Model::new(crate::model::ModelKind::Pythagorean, vec![x]),
+                runcal::model::Model::new(runcal::model::ModelKind::Pythagorean, vec![x]),
                 ModelSource::Given,
             )
         }
@@ -85,7 +85,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
                 "no --profile: fitted {} on these {} team-seasons ({})",
                 kind,
                 table.len(),
-                crate::report::table::params(&f)
+                runcal::report::table::params(&f)
             ));
             (f.model, ModelSource::Fitted)
         }
@@ -123,7 +123,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         lines.extend(tail);
     }
     if let Some(path) = &args.plot {
-        crate::report::svg::write_luck_plot(path, &lines)?;
+        runcal::report::svg::write_luck_plot(path, &lines)?;
         diag.note(&format!("wrote {path}"));
     }
     let report = LuckReport {

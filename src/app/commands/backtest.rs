@@ -1,10 +1,10 @@
 //! `runcal backtest`: which model predicts best on seasons it was not fitted to.
 
-use crate::cli::{InputArgs, OutputArgs};
-use crate::error::Error;
-use crate::fit::backtest::{self, Candidate, Scheme};
-use crate::fit::{self, Loss};
-use crate::report::BacktestReport;
+use crate::app::cli::{InputArgs, LossArg, OutputArgs, SchemeArg};
+use runcal::error::Error;
+use runcal::fit::backtest::{self, Candidate};
+use runcal::fit::{self, Loss};
+use runcal::report::BacktestReport;
 
 /// Compare models on seasons they were not fitted to.
 ///
@@ -20,8 +20,8 @@ pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
     /// How seasons are held out.
-    #[arg(long, value_enum, default_value_t = Scheme::LeaveOneSeasonOut)]
-    pub scheme: Scheme,
+    #[arg(long, value_enum, default_value_t = SchemeArg::LeaveOneSeasonOut)]
+    pub scheme: SchemeArg,
     /// With --scheme rolling: seasons of training data before the first scored season.
     #[arg(long, default_value_t = 3, value_name = "K")]
     pub min_train: usize,
@@ -29,8 +29,8 @@ pub struct Args {
     #[arg(long, default_value = "all", value_name = "M[,M…]")]
     pub model: String,
     /// What each fit minimises and the ranking uses.
-    #[arg(long, value_enum, default_value_t = super::fit::LossArg::Logloss)]
-    pub loss: super::fit::LossArg,
+    #[arg(long, value_enum, default_value_t = LossArg::Logloss)]
+    pub loss: LossArg,
     /// Leave out the published references.
     #[arg(long)]
     pub no_references: bool,
@@ -56,11 +56,11 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         &table,
         &candidates,
         loss,
-        args.scheme,
+        args.scheme.into(),
         args.min_train,
     )?;
     let report = BacktestReport {
-        scheme: args.scheme,
+        scheme: args.scheme.into(),
         loss,
         rows_used: ds.rows.len(),
         rows_rejected: ds.rejected.len(),
