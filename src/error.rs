@@ -140,6 +140,9 @@ pub enum Error {
         #[source]
         source: std::io::Error,
     },
+    /// A result could not be serialised (JSON, CSV or a chart): a bug or a value no format holds.
+    #[error("cannot render the output: {0}")]
+    Serialize(String),
     #[error("{0}")]
     Usage(String),
 }

@@ -188,16 +188,82 @@ pub fn luck_lines(
             }
         })
         .collect();
-    out.sort_by(|a, b| {
-        b.line.luck_wins.total_cmp(&a.line.luck_wins).then_with(|| {
-            (a.line.season, &a.line.league, &a.line.team).cmp(&(
-                b.line.season,
-                &b.line.league,
-                &b.line.team,
-            ))
-        })
-    });
+    out.sort_by(|a, b| most_ahead_first(&a.line, &b.line));
     out
+}
+
+/// Coverage of the projection's range of final wins.
+pub const PROJECTION_LEVEL: f64 = 0.8;
+
+/// The order of every luck listing: most wins above expected first; ties by season, league, team.
+pub fn most_ahead_first(a: &TeamLine, b: &TeamLine) -> std::cmp::Ordering {
+    b.luck_wins
+        .total_cmp(&a.luck_wins)
+        .then_with(|| (a.season, &a.league, &a.team).cmp(&(b.season, &b.league, &b.team)))
+}
+
+/// The `top` team lines furthest above and furthest below their expectation, each list most
+/// extreme first.
+pub fn extremes(teams: &[TeamLine], top: usize) -> (Vec<TeamLine>, Vec<TeamLine>) {
+    let mut sorted: Vec<&TeamLine> = teams.iter().collect();
+    sorted.sort_by(|a, b| most_ahead_first(a, b));
+    let n = top.min(sorted.len());
+    let ahead = sorted[..n].iter().map(|t| (*t).clone()).collect();
+    let behind = sorted.iter().rev().take(n).map(|t| (*t).clone()).collect();
+    (ahead, behind)
+}
+
+/// Keep the `n` lines most ahead and the `n` most behind of a list sorted most ahead first.
+pub fn keep_extremes(lines: &mut Vec<LuckLine>, n: usize) {
+    if n.saturating_mul(2) < lines.len() {
+        let tail = lines.split_off(lines.len() - n);
+        lines.truncate(n);
+        lines.extend(tail);
+    }
+}
+
+/// Positions (in a list sorted most ahead first) of the teams a chart labels: the three most
+/// ahead and the three most behind, or all of them when there are six or fewer.
+pub fn labelled_extremes(len: usize) -> Vec<usize> {
+    if len <= 6 {
+        (0..len).collect()
+    } else {
+        (0..3).chain(len - 3..len).collect()
+    }
+}
+
+/// Equal-width bins over the finite values.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Histogram {
+    /// Left edge of the first bin.
+    pub start: f64,
+    pub width: f64,
+    pub counts: Vec<u32>,
+}
+
+/// Bin values into `bins` equal-width bins spanning them (padded by 5% each side).
+pub fn histogram(values: &[f64], bins: usize) -> Histogram {
+    let (lo, hi) = values
+        .iter()
+        .filter(|v| v.is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
+            (a.min(v), b.max(v))
+        });
+    let (lo, hi) = if lo.is_finite() { (lo, hi) } else { (0.0, 1.0) };
+    let pad = ((hi - lo) * 0.05).max(1e-9);
+    let (start, end) = (lo - pad, hi + pad);
+    let bins = bins.max(1);
+    let width = (end - start) / bins as f64;
+    let mut counts = vec![0u32; bins];
+    for v in values.iter().filter(|v| v.is_finite()) {
+        let b = (((v - start) / width) as usize).min(bins - 1);
+        counts[b] += 1;
+    }
+    Histogram {
+        start,
+        width,
+        counts,
+    }
 }
 
 #[cfg(test)]

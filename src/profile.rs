@@ -169,7 +169,7 @@ impl Profile {
 
     pub fn save(&self, path: &str) -> Result<(), Error> {
         let mut text =
-            serde_json::to_string_pretty(self).map_err(|e| Error::Usage(e.to_string()))?;
+            serde_json::to_string_pretty(self).map_err(|e| Error::Serialize(e.to_string()))?;
         text.push('\n');
         crate::output::write_atomic(path, text.as_bytes())
     }

@@ -175,3 +175,21 @@ pub struct OutputArgs {
     #[arg(long, short = 'v')]
     pub verbose: bool,
 }
+
+/// A finite number greater than zero (`--exponent`, `--max-drift`, …).
+pub fn positive(s: &str) -> Result<f64, String> {
+    match s.trim().parse::<f64>() {
+        Ok(x) if x.is_finite() && x > 0.0 => Ok(x),
+        _ => Err(format!("expected a positive number, got '{s}'")),
+    }
+}
+
+/// A level strictly between 0 and 1 (`--ci-level`).
+pub fn level(s: &str) -> Result<f64, String> {
+    match s.trim().parse::<f64>() {
+        Ok(x) if x > 0.0 && x < 1.0 => Ok(x),
+        _ => Err(format!(
+            "expected a level between 0 and 1 (e.g. 0.95), got '{s}'"
+        )),
+    }
+}

@@ -55,6 +55,14 @@ pub struct Fold {
 /// A fold with the held-out rows and their predictions.
 type FoldPredictions = (Fold, Vec<usize>, Vec<f64>);
 
+/// How far the second candidate trails the best (scores ranked best first), in the loss.
+pub fn margin(scores: &[CandidateScore], loss: Loss) -> Option<f64> {
+    match (scores.first(), scores.get(1)) {
+        (Some(a), Some(b)) => Some(loss.of(&b.metrics) - loss.of(&a.metrics)),
+        _ => None,
+    }
+}
+
 /// A candidate's pooled out-of-sample result.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CandidateScore {

@@ -3,6 +3,7 @@
 
 pub mod backtest;
 pub mod bootstrap;
+pub mod calibrate;
 pub mod loss;
 pub mod solve;
 pub mod stderr;
@@ -211,9 +212,18 @@ pub fn rank(fits: &mut [ModelFit]) {
     });
 }
 
+/// A loss curve over one parameter, with the optimum.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LossCurve {
+    pub param: String,
+    pub loss: String,
+    pub points: Vec<(f64, f64)>,
+    pub optimum: (f64, f64),
+}
+
 /// The loss along a model's first parameter (others held at their values), over ±50% of the value,
 /// for charts.
-pub fn loss_curve(t: &Table, model: &Model, loss: Loss) -> crate::report::svg::LossCurve {
+pub fn loss_curve(t: &Table, model: &Model, loss: Loss) -> LossCurve {
     let centre = model.params[0];
     let points: Vec<(f64, f64)> = (0..=120)
         .map(|i| {
@@ -223,7 +233,7 @@ pub fn loss_curve(t: &Table, model: &Model, loss: Loss) -> crate::report::svg::L
             (v, loss::loss_value(t, model.kind, &p, loss, None))
         })
         .collect();
-    crate::report::svg::LossCurve {
+    LossCurve {
         param: model.kind.param_names()[0].to_string(),
         loss: loss.name().to_string(),
         optimum: (

@@ -24,11 +24,11 @@ pub fn cell(v: Option<f64>) -> String {
 
 pub fn finish(w: csv::Writer<Vec<u8>>) -> Result<Vec<u8>, Error> {
     w.into_inner()
-        .map_err(|e| Error::Usage(format!("csv output: {e}")))
+        .map_err(|e| Error::Serialize(format!("csv output: {e}")))
 }
 
 pub fn write_err(e: csv::Error) -> Error {
-    Error::Usage(format!("csv output: {e}"))
+    Error::Serialize(format!("csv output: {e}"))
 }
 
 /// The record columns every per-team CSV starts with.
@@ -71,12 +71,8 @@ pub fn fit(r: &FitReport) -> Result<Vec<u8>, Error> {
     ];
     w.write_record(TEAM_HEADER.iter().chain(&extra))
         .map_err(write_err)?;
-    let model = r
-        .primary
-        .as_ref()
-        .map(|m| m.kind.name())
-        .unwrap_or_default();
-    for t in &r.teams {
+    let model = r.calibration.teams_kind.name();
+    for t in &r.calibration.teams {
         let mut row = team_cells(t);
         row.extend([
             model.to_string(),
@@ -161,6 +157,37 @@ pub fn check(r: &super::CheckReport) -> Result<Vec<u8>, Error> {
             cell(Some(x.value)),
             x.passed.to_string(),
             safe(&x.detail).into_owned(),
+        ])
+        .map_err(write_err)?;
+    }
+    finish(w)
+}
+
+/// The simulated team-seasons, as a team-season table runcal reads back.
+pub fn simulate(r: &super::SimulateReport<'_>) -> Result<Vec<u8>, Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record([
+        "season",
+        "league",
+        "team",
+        "games",
+        "wins",
+        "losses",
+        "runs_scored",
+        "runs_allowed",
+    ])
+    .map_err(write_err)?;
+    let league = safe(&r.design.league);
+    for row in &r.rows {
+        w.write_record([
+            row.season.to_string(),
+            league.clone().into_owned(),
+            safe(&crate::simulate::club_name(row.team)).into_owned(),
+            row.games.to_string(),
+            row.wins.to_string(),
+            row.losses.to_string(),
+            row.runs_scored.to_string(),
+            row.runs_allowed.to_string(),
         ])
         .map_err(write_err)?;
     }

@@ -1,210 +1,542 @@
-//! JSON printers. The `schema` field carries the contract's version; change a shape only with a bump.
+//! JSON printers. Each schema is a serde-derived struct whose field order is the contract's key
+//! order; the `schema` field carries the contract's version: change a shape only with a bump.
 
-use serde_json::{Map, Value, json};
+use serde::Serialize;
+use serde::ser::{SerializeMap, SerializeSeq, Serializer};
 
 use super::{FitReport, TeamLine};
-use crate::fit::{Metrics, ModelFit};
+use crate::fit::backtest::Candidate;
+use crate::fit::{Group, Metrics, ModelFit};
+use crate::model::Model;
 
-/// Non-finite numbers become null (JSON has no NaN).
-pub fn number(v: f64) -> Value {
-    if v.is_finite() { json!(v) } else { Value::Null }
-}
+/// A number that becomes `null` when it is not finite (JSON has no NaN or infinity).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Num(pub f64);
 
-fn named(names: &[&str], values: &[f64]) -> Value {
-    let mut m = Map::new();
-    for (n, v) in names.iter().zip(values) {
-        m.insert((*n).to_string(), number(*v));
-    }
-    Value::Object(m)
-}
-
-pub fn metrics(m: &Metrics) -> Value {
-    json!({
-        "mae": number(m.mae), "rmse": number(m.rmse), "logloss": number(m.logloss),
-        "bias": number(m.bias), "max_abs": number(m.max_abs), "rmse_wins": number(m.rmse_wins),
-    })
-}
-
-pub fn model_fit(f: &ModelFit) -> Value {
-    let names = f.model.kind.param_names();
-    let mut o = Map::new();
-    o.insert("model".into(), json!(f.model.kind.name()));
-    o.insert("loss".into(), json!(f.loss.name()));
-    o.insert(
-        "group".into(),
-        f.group.as_ref().map_or(Value::Null, |g| json!(g)),
-    );
-    o.insert("fitted".into(), json!(f.fitted));
-    o.insert("rows".into(), json!(f.rows));
-    o.insert("params".into(), named(names, &f.model.params));
-    match &f.std_errors {
-        Some(se) => {
-            o.insert("std_errors".into(), named(names, &se.corrected));
-            o.insert("std_errors_binomial".into(), named(names, &se.binomial));
-            o.insert("dispersion".into(), number(se.dispersion));
-        }
-        None => {
-            o.insert("std_errors".into(), Value::Null);
+impl Serialize for Num {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        if self.0.is_finite() {
+            s.serialize_f64(self.0)
+        } else {
+            s.serialize_none()
         }
     }
-    match &f.intervals {
-        Some(iv) => {
-            let mut ci = Map::new();
-            for (n, (lo, hi)) in names.iter().zip(&iv.params) {
-                ci.insert((*n).to_string(), json!([number(*lo), number(*hi)]));
-            }
-            o.insert("ci".into(), Value::Object(ci));
-            o.insert("ci_level".into(), json!(iv.level));
-            let mut mci = Map::new();
-            for (n, (lo, hi)) in &iv.metrics {
-                mci.insert((*n).to_string(), json!([number(*lo), number(*hi)]));
-            }
-            o.insert("metrics_ci".into(), Value::Object(mci));
-            o.insert("bootstrap_sd".into(), named(names, &iv.params_sd));
-            o.insert("bootstrap_resamples".into(), json!(iv.resamples));
-            o.insert("bootstrap_failed".into(), json!(iv.failed));
-        }
-        None => {
-            o.insert("ci".into(), Value::Null);
-            o.insert("ci_level".into(), Value::Null);
-        }
+}
+
+/// `[lo, hi]`, each finite or null.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Pair(pub f64, pub f64);
+
+impl Serialize for Pair {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let mut seq = s.serialize_seq(Some(2))?;
+        seq.serialize_element(&Num(self.0))?;
+        seq.serialize_element(&Num(self.1))?;
+        seq.end()
     }
-    o.insert("metrics".into(), metrics(&f.metrics));
-    o.insert("runs_per_win".into(), number(f.runs_per_win));
-    o.insert("average_rpg".into(), number(f.average_rpg));
-    o.insert(
-        "exponent_range".into(),
-        f.exponent_range
-            .map_or(Value::Null, |(lo, hi)| json!([number(lo), number(hi)])),
-    );
-    o.insert("iterations".into(), json!(f.iterations));
-    o.insert("converged".into(), json!(f.converged));
-    Value::Object(o)
 }
 
-pub fn team_line(t: &TeamLine) -> Value {
-    json!({
-        "season": t.season, "league": t.league, "team": t.team, "games": t.games,
-        "wins": t.wins, "losses": t.losses, "ties": t.ties,
-        "runs_scored": number(t.runs_scored), "runs_allowed": number(t.runs_allowed),
-        "win_pct": number(t.win_pct), "expected_win_pct": number(t.expected_win_pct),
-        "expected_wins": number(t.expected_wins), "luck_wins": number(t.luck_wins),
-        "exponent": t.exponent.map_or(Value::Null, number),
-    })
+/// Parameter names mapped to values, in the model's parameter order.
+#[derive(Debug, Clone, Copy)]
+pub struct Named<'a, T> {
+    pub names: &'a [&'a str],
+    pub values: &'a [T],
 }
 
-pub fn fit(r: &FitReport) -> Value {
-    json!({
-        "schema": "runcal.fit/1",
-        "rows_used": r.rows_used,
-        "rows_rejected": r.rows_rejected,
-        "loss": r.loss.name(),
-        "fits": r.fits.iter().map(model_fit).collect::<Vec<_>>(),
-        "too_small_groups": r.too_small.iter().map(|(g, n)| json!({"group": g, "rows": n})).collect::<Vec<_>>(),
-    })
+impl<T: Copy + Into<Cell>> Serialize for Named<'_, T> {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let mut m = s.serialize_map(Some(self.names.len()))?;
+        for (n, v) in self.names.iter().zip(self.values) {
+            m.serialize_entry(n, &(*v).into())?;
+        }
+        m.end()
+    }
 }
 
-fn params_of(m: &crate::model::Model) -> Value {
+/// A value of a [`Named`] map: a number or an interval.
+#[derive(Debug, Clone, Copy, Serialize)]
+#[serde(untagged)]
+pub enum Cell {
+    Number(Num),
+    Interval(Pair),
+}
+
+impl From<f64> for Cell {
+    fn from(v: f64) -> Cell {
+        Cell::Number(Num(v))
+    }
+}
+
+impl From<(f64, f64)> for Cell {
+    fn from((lo, hi): (f64, f64)) -> Cell {
+        Cell::Interval(Pair(lo, hi))
+    }
+}
+
+fn named<'a, T>(names: &'a [&'a str], values: &'a [T]) -> Named<'a, T> {
+    Named { names, values }
+}
+
+fn params_of(m: &Model) -> Named<'_, f64> {
     named(m.kind.param_names(), &m.params)
 }
 
-pub fn luck(r: &super::LuckReport) -> Value {
-    let teams: Vec<Value> = r
-        .teams
-        .iter()
-        .map(|l| {
-            let t = &l.line;
-            let (orw, orl) = l.one_run.map_or((Value::Null, Value::Null), |(w, lo)| (json!(w), json!(lo)));
-            let (proj, interval, regressed, remaining) = match &l.projection {
-                Some(p) => (
-                    number(p.projected_wins),
-                    json!([number(p.interval.0), number(p.interval.1)]),
-                    number(p.regressed_win_pct),
-                    json!(p.remaining),
-                ),
-                None => (Value::Null, Value::Null, Value::Null, Value::Null),
-            };
-            json!({
-                "season": t.season, "league": t.league, "team": t.team, "games": t.games,
-                "wins": t.wins, "losses": t.losses, "ties": t.ties,
-                "runs_scored": number(t.runs_scored), "runs_allowed": number(t.runs_allowed),
-                "win_pct": number(t.win_pct), "expected_win_pct": number(t.expected_win_pct),
-                "expected_wins": number(t.expected_wins), "luck_wins": number(t.luck_wins),
-                "luck_z": l.luck_z.map_or(Value::Null, number), "luck_p": l.luck_p.map_or(Value::Null, number),
-                "one_run_wins": orw, "one_run_losses": orl,
-                "remaining_games": remaining, "regressed_win_pct": regressed,
-                "projected_wins": proj, "projected_interval": interval,
-            })
-        })
-        .collect();
-    json!({
-        "schema": "runcal.luck/1",
-        "model": r.model.kind.name(),
-        "params": params_of(&r.model),
-        "source": match &r.source { super::ModelSource::Profile(p) => json!({"profile": p}), super::ModelSource::Fitted => json!("fitted"), super::ModelSource::Given => json!("given") },
-        "rows_used": r.rows_used,
-        "rows_rejected": r.rows_rejected,
-        "as_of": r.as_of.map(|d| d.to_string()),
-        "season_games": r.season_games,
-        "regression_games": r.regression_games.map_or(Value::Null, number),
-        "projection_interval_level": 0.8,
-        "teams": teams,
-    })
+fn opt(v: Option<f64>) -> Option<Num> {
+    v.map(Num)
 }
 
-pub fn backtest(r: &super::BacktestReport) -> Value {
-    use crate::fit::backtest::Candidate;
-    let models: Vec<Value> = r
+/// Render a serialisable schema as pretty JSON with a closing newline.
+pub fn to_bytes<T: Serialize>(value: &T) -> Result<Vec<u8>, crate::error::Error> {
+    let mut s = serde_json::to_string_pretty(value)
+        .map_err(|e| crate::error::Error::Serialize(e.to_string()))?;
+    s.push('\n');
+    Ok(s.into_bytes())
+}
+
+#[derive(Serialize)]
+pub struct MetricsJson {
+    mae: Num,
+    rmse: Num,
+    logloss: Num,
+    bias: Num,
+    max_abs: Num,
+    rmse_wins: Num,
+}
+
+impl From<&Metrics> for MetricsJson {
+    fn from(m: &Metrics) -> MetricsJson {
+        MetricsJson {
+            mae: Num(m.mae),
+            rmse: Num(m.rmse),
+            logloss: Num(m.logloss),
+            bias: Num(m.bias),
+            max_abs: Num(m.max_abs),
+            rmse_wins: Num(m.rmse_wins),
+        }
+    }
+}
+
+/// One entry of `fits` in `runcal.fit/1`.
+#[derive(Serialize)]
+pub struct ModelFitJson<'a> {
+    model: &'static str,
+    loss: &'static str,
+    group: Option<&'a Group>,
+    fitted: bool,
+    rows: usize,
+    params: Named<'a, f64>,
+    std_errors: Option<Named<'a, f64>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    std_errors_binomial: Option<Named<'a, f64>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    dispersion: Option<Num>,
+    ci: Option<Named<'a, (f64, f64)>>,
+    ci_level: Option<f64>,
+    #[serde(
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "serialize_metrics_ci"
+    )]
+    metrics_ci: Option<Vec<(&'static str, Pair)>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    bootstrap_sd: Option<Named<'a, f64>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    bootstrap_resamples: Option<usize>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    bootstrap_failed: Option<usize>,
+    metrics: MetricsJson,
+    runs_per_win: Num,
+    average_rpg: Num,
+    exponent_range: Option<Pair>,
+    iterations: u64,
+    converged: bool,
+}
+
+/// Serialises `[(name, [lo, hi]), …]` as an object.
+struct Intervals<'a>(&'a [(&'static str, Pair)]);
+
+impl Serialize for Intervals<'_> {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let mut m = s.serialize_map(Some(self.0.len()))?;
+        for (k, v) in self.0 {
+            m.serialize_entry(k, v)?;
+        }
+        m.end()
+    }
+}
+
+fn serialize_metrics_ci<S: Serializer>(
+    v: &Option<Vec<(&'static str, Pair)>>,
+    s: S,
+) -> Result<S::Ok, S::Error> {
+    match v {
+        Some(list) => Intervals(list).serialize(s),
+        None => s.serialize_none(),
+    }
+}
+
+impl<'a> From<&'a ModelFit> for ModelFitJson<'a> {
+    fn from(f: &'a ModelFit) -> ModelFitJson<'a> {
+        let names = f.model.kind.param_names();
+        let se = f.std_errors.as_ref();
+        let iv = f.intervals.as_ref();
+        ModelFitJson {
+            model: f.model.kind.name(),
+            loss: f.loss.name(),
+            group: f.group.as_ref(),
+            fitted: f.fitted,
+            rows: f.rows,
+            params: params_of(&f.model),
+            std_errors: se.map(|s| named(names, &s.corrected)),
+            std_errors_binomial: se.map(|s| named(names, &s.binomial)),
+            dispersion: se.map(|s| Num(s.dispersion)),
+            ci: iv.map(|i| named(names, &i.params)),
+            ci_level: iv.map(|i| i.level),
+            metrics_ci: iv.map(|i| {
+                i.metrics
+                    .iter()
+                    .map(|(k, &(lo, hi))| (*k, Pair(lo, hi)))
+                    .collect()
+            }),
+            bootstrap_sd: iv.map(|i| named(names, &i.params_sd)),
+            bootstrap_resamples: iv.map(|i| i.resamples),
+            bootstrap_failed: iv.map(|i| i.failed),
+            metrics: (&f.metrics).into(),
+            runs_per_win: Num(f.runs_per_win),
+            average_rpg: Num(f.average_rpg),
+            exponent_range: f.exponent_range.map(|(lo, hi)| Pair(lo, hi)),
+            iterations: f.iterations,
+            converged: f.converged,
+        }
+    }
+}
+
+#[derive(Serialize)]
+struct TooSmallJson<'a> {
+    group: &'a Group,
+    rows: usize,
+}
+
+/// `runcal.fit/1`.
+#[derive(Serialize)]
+pub struct FitJson<'a> {
+    schema: &'static str,
+    rows_used: usize,
+    rows_rejected: usize,
+    loss: &'static str,
+    fits: Vec<ModelFitJson<'a>>,
+    too_small_groups: Vec<TooSmallJson<'a>>,
+}
+
+pub fn fit(r: &FitReport) -> FitJson<'_> {
+    FitJson {
+        schema: "runcal.fit/1",
+        rows_used: r.rows_used,
+        rows_rejected: r.rows_rejected,
+        loss: r.loss.name(),
+        fits: r.calibration.fits.iter().map(ModelFitJson::from).collect(),
+        too_small_groups: r
+            .calibration
+            .too_small
+            .iter()
+            .map(|(group, rows)| TooSmallJson { group, rows: *rows })
+            .collect(),
+    }
+}
+
+/// The record and expectation columns every team row shares.
+#[derive(Serialize)]
+pub struct TeamJson<'a> {
+    season: i32,
+    league: Option<&'a str>,
+    team: &'a str,
+    games: u64,
+    wins: u64,
+    losses: u64,
+    ties: u64,
+    runs_scored: Num,
+    runs_allowed: Num,
+    win_pct: Num,
+    expected_win_pct: Num,
+    expected_wins: Num,
+    luck_wins: Num,
+}
+
+impl<'a> From<&'a TeamLine> for TeamJson<'a> {
+    fn from(t: &'a TeamLine) -> TeamJson<'a> {
+        TeamJson {
+            season: t.season,
+            league: t.league.as_deref(),
+            team: &t.team,
+            games: t.games,
+            wins: t.wins,
+            losses: t.losses,
+            ties: t.ties,
+            runs_scored: Num(t.runs_scored),
+            runs_allowed: Num(t.runs_allowed),
+            win_pct: Num(t.win_pct),
+            expected_win_pct: Num(t.expected_win_pct),
+            expected_wins: Num(t.expected_wins),
+            luck_wins: Num(t.luck_wins),
+        }
+    }
+}
+
+#[derive(Serialize)]
+struct LuckTeamJson<'a> {
+    #[serde(flatten)]
+    team: TeamJson<'a>,
+    luck_z: Option<Num>,
+    luck_p: Option<Num>,
+    one_run_wins: Option<u64>,
+    one_run_losses: Option<u64>,
+    remaining_games: Option<u64>,
+    regressed_win_pct: Option<Num>,
+    projected_wins: Option<Num>,
+    projected_interval: Option<Pair>,
+}
+
+#[derive(Serialize)]
+#[serde(untagged)]
+enum SourceJson<'a> {
+    Profile { profile: &'a str },
+    Named(&'static str),
+}
+
+/// `runcal.luck/1`.
+#[derive(Serialize)]
+pub struct LuckJson<'a> {
+    schema: &'static str,
+    model: &'static str,
+    params: Named<'a, f64>,
+    source: SourceJson<'a>,
+    rows_used: usize,
+    rows_rejected: usize,
+    as_of: Option<String>,
+    season_games: Option<u64>,
+    regression_games: Option<Num>,
+    projection_interval_level: f64,
+    teams: Vec<LuckTeamJson<'a>>,
+}
+
+pub fn luck(r: &super::LuckReport) -> LuckJson<'_> {
+    use super::ModelSource;
+    LuckJson {
+        schema: "runcal.luck/1",
+        model: r.model.kind.name(),
+        params: params_of(&r.model),
+        source: match &r.source {
+            ModelSource::Profile(p) => SourceJson::Profile { profile: p },
+            ModelSource::Fitted => SourceJson::Named("fitted"),
+            ModelSource::Given => SourceJson::Named("given"),
+        },
+        rows_used: r.rows_used,
+        rows_rejected: r.rows_rejected,
+        as_of: r.as_of.map(|d| d.to_string()),
+        season_games: r.season_games,
+        regression_games: opt(r.regression_games),
+        projection_interval_level: crate::luck::PROJECTION_LEVEL,
+        teams: r
+            .teams
+            .iter()
+            .map(|l| {
+                let p = l.projection.as_ref();
+                LuckTeamJson {
+                    team: (&l.line).into(),
+                    luck_z: opt(l.luck_z),
+                    luck_p: opt(l.luck_p),
+                    one_run_wins: l.one_run.map(|(w, _)| w),
+                    one_run_losses: l.one_run.map(|(_, lo)| lo),
+                    remaining_games: p.map(|p| p.remaining),
+                    regressed_win_pct: p.map(|p| Num(p.regressed_win_pct)),
+                    projected_wins: p.map(|p| Num(p.projected_wins)),
+                    projected_interval: p.map(|p| Pair(p.interval.0, p.interval.1)),
+                }
+            })
+            .collect(),
+    }
+}
+
+#[derive(Serialize)]
+struct FoldJson<'a> {
+    season: i32,
+    train_rows: usize,
+    test_rows: usize,
+    params: Named<'a, f64>,
+    loss: Num,
+}
+
+#[derive(Serialize)]
+struct CandidateJson<'a> {
+    model: &'static str,
+    label: String,
+    fitted: bool,
+    params: Option<Named<'a, f64>>,
+    mae: Num,
+    rmse: Num,
+    logloss: Num,
+    folds: usize,
+    fold_details: Vec<FoldJson<'a>>,
+}
+
+/// `runcal.backtest/1`.
+#[derive(Serialize)]
+pub struct BacktestJson<'a> {
+    schema: &'static str,
+    scheme: &'static str,
+    loss: &'static str,
+    rows_used: usize,
+    rows_rejected: usize,
+    models: Vec<CandidateJson<'a>>,
+    best: Option<String>,
+    margin: Option<Num>,
+}
+
+pub fn backtest(r: &super::BacktestReport) -> BacktestJson<'_> {
+    let models = r
         .scores
         .iter()
         .map(|s| {
-            let (fitted, params) = match &s.candidate {
-                Candidate::Fit(_) => (true, Value::Null),
-                Candidate::Fixed(m) => (false, params_of(m)),
+            let (fitted, kind, params) = match &s.candidate {
+                Candidate::Fit(k) => (true, *k, None),
+                Candidate::Fixed(m) => (false, m.kind, Some(params_of(m))),
             };
-            let model = match &s.candidate {
-                Candidate::Fit(k) => k.name(),
-                Candidate::Fixed(m) => m.kind.name(),
-            };
-            json!({
-                "model": model, "label": s.candidate.label(), "fitted": fitted, "params": params,
-                "mae": number(s.metrics.mae), "rmse": number(s.metrics.rmse), "logloss": number(s.metrics.logloss),
-                "folds": s.folds.len(),
-                "fold_details": s.folds.iter().map(|f| json!({
-                    "season": f.season, "train_rows": f.train_rows, "test_rows": f.test_rows,
-                    "params": named(match &s.candidate { Candidate::Fit(k) => k.param_names(), Candidate::Fixed(m) => m.kind.param_names() }, &f.params),
-                    "loss": number(f.loss),
-                })).collect::<Vec<_>>(),
-            })
+            CandidateJson {
+                model: kind.name(),
+                label: s.candidate.label(),
+                fitted,
+                params,
+                mae: Num(s.metrics.mae),
+                rmse: Num(s.metrics.rmse),
+                logloss: Num(s.metrics.logloss),
+                folds: s.folds.len(),
+                fold_details: s
+                    .folds
+                    .iter()
+                    .map(|f| FoldJson {
+                        season: f.season,
+                        train_rows: f.train_rows,
+                        test_rows: f.test_rows,
+                        params: named(kind.param_names(), &f.params),
+                        loss: Num(f.loss),
+                    })
+                    .collect(),
+            }
         })
         .collect();
-    let best = r.scores.first().map(|s| s.candidate.label());
-    let margin = match (r.scores.first(), r.scores.get(1)) {
-        (Some(a), Some(b)) => number(r.loss.of(&b.metrics) - r.loss.of(&a.metrics)),
-        _ => Value::Null,
-    };
-    json!({
-        "schema": "runcal.backtest/1",
-        "scheme": r.scheme.name(),
-        "loss": r.loss.name(),
-        "rows_used": r.rows_used,
-        "rows_rejected": r.rows_rejected,
-        "models": models,
-        "best": best,
-        "margin": margin,
-    })
+    BacktestJson {
+        schema: "runcal.backtest/1",
+        scheme: r.scheme.name(),
+        loss: r.loss.name(),
+        rows_used: r.rows_used,
+        rows_rejected: r.rows_rejected,
+        models,
+        best: r.scores.first().map(|s| s.candidate.label()),
+        margin: r.margin.map(Num),
+    }
 }
 
-pub fn check(r: &super::CheckReport) -> Value {
-    json!({
-        "schema": "runcal.check/1",
-        "passed": r.passed,
-        "verdict": r.verdict,
-        "profile": r.profile,
-        "rows_used": r.rows_used,
-        "rows_rejected": r.rows_rejected,
-        "rules": r.rules.iter().map(|x| json!({
-            "rule": x.rule, "threshold": number(x.threshold), "value": number(x.value), "passed": x.passed, "detail": x.detail,
-        })).collect::<Vec<_>>(),
-    })
+#[derive(Serialize)]
+struct RuleJson<'a> {
+    rule: &'a str,
+    threshold: Num,
+    value: Num,
+    passed: bool,
+    detail: &'a str,
+}
+
+/// `runcal.check/1`.
+#[derive(Serialize)]
+pub struct CheckJson<'a> {
+    schema: &'static str,
+    passed: bool,
+    verdict: &'a str,
+    profile: &'a str,
+    rows_used: usize,
+    rows_rejected: usize,
+    rules: Vec<RuleJson<'a>>,
+}
+
+pub fn check(r: &super::CheckReport) -> CheckJson<'_> {
+    CheckJson {
+        schema: "runcal.check/1",
+        passed: r.passed,
+        verdict: &r.verdict,
+        profile: &r.profile,
+        rows_used: r.rows_used,
+        rows_rejected: r.rows_rejected,
+        rules: r
+            .rules
+            .iter()
+            .map(|x| RuleJson {
+                rule: &x.rule,
+                threshold: Num(x.threshold),
+                value: Num(x.value),
+                passed: x.passed,
+                detail: &x.detail,
+            })
+            .collect(),
+    }
+}
+
+#[derive(Serialize)]
+struct DesignJson<'a> {
+    teams: usize,
+    seasons: usize,
+    games: usize,
+    exponent: f64,
+    runs_per_game: f64,
+    talent_sd: f64,
+    seed: u64,
+    league: &'a str,
+}
+
+#[derive(Serialize)]
+struct SimulatedTeamJson<'a> {
+    season: i32,
+    league: &'a str,
+    team: String,
+    games: u64,
+    wins: u64,
+    losses: u64,
+    runs_scored: u64,
+    runs_allowed: u64,
+}
+
+/// `runcal.simulate/1`.
+#[derive(Serialize)]
+pub struct SimulateJson<'a> {
+    schema: &'static str,
+    design: DesignJson<'a>,
+    teams: Vec<SimulatedTeamJson<'a>>,
+}
+
+pub fn simulate<'a>(r: &'a super::SimulateReport<'a>) -> SimulateJson<'a> {
+    let d = r.design;
+    SimulateJson {
+        schema: "runcal.simulate/1",
+        design: DesignJson {
+            teams: d.teams,
+            seasons: d.seasons,
+            games: d.games,
+            exponent: d.shape,
+            runs_per_game: d.runs_per_game,
+            talent_sd: d.talent_sd,
+            seed: d.seed,
+            league: &d.league,
+        },
+        teams: r
+            .rows
+            .iter()
+            .map(|row| SimulatedTeamJson {
+                season: row.season,
+                league: &d.league,
+                team: crate::simulate::club_name(row.team),
+                games: row.games,
+                wins: row.wins,
+                losses: row.losses,
+                runs_scored: row.runs_scored,
+                runs_allowed: row.runs_allowed,
+            })
+            .collect(),
+    }
 }

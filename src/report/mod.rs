@@ -16,25 +16,24 @@ pub enum Format {
     Csv,
 }
 
-/// A command's result that every format can print.
+/// A command's result that every format can print. Each method renders bytes; none computes.
 pub trait Report {
     fn table(&self) -> String;
-    fn json(&self) -> serde_json::Value;
+    fn json(&self) -> Result<Vec<u8>, Error>;
     fn csv(&self) -> Result<Vec<u8>, Error>;
+    /// The report's chart (`--plot`), for reports that have one.
+    fn svg(&self) -> Option<Result<Vec<u8>, Error>> {
+        None
+    }
 }
 
 /// Render a report in the chosen format.
 pub fn render(report: &dyn Report, format: Format) -> Result<Vec<u8>, Error> {
-    Ok(match format {
-        Format::Table => report.table().into_bytes(),
-        Format::Json => {
-            let mut s = serde_json::to_string_pretty(&report.json())
-                .map_err(|e| Error::Usage(e.to_string()))?;
-            s.push('\n');
-            s.into_bytes()
-        }
-        Format::Csv => report.csv()?,
-    })
+    match format {
+        Format::Table => Ok(report.table().into_bytes()),
+        Format::Json => report.json(),
+        Format::Csv => report.csv(),
+    }
 }
 
 pub use crate::luck::TeamLine;
@@ -79,27 +78,23 @@ pub struct FitReport {
     pub rows_rejected: usize,
     pub loss: crate::fit::Loss,
     pub seasons: Option<(i32, i32)>,
-    /// Fitted models (ranked by the loss), then unfitted references (ranked).
-    pub fits: Vec<crate::fit::ModelFit>,
-    /// Groups with fewer rows than `--min-group`, with their row counts.
-    pub too_small: Vec<(crate::fit::Group, usize)>,
     pub grouped: bool,
-    /// Every team-season under the primary fit (each group's own fit with `--by`).
-    pub teams: Vec<TeamLine>,
-    /// The model the team lines use.
-    pub primary: Option<crate::model::Model>,
-    pub top: usize,
+    pub calibration: crate::fit::calibrate::Calibration,
 }
 
 impl Report for FitReport {
     fn table(&self) -> String {
         table::fit(self)
     }
-    fn json(&self) -> serde_json::Value {
-        json::fit(self)
+    fn json(&self) -> Result<Vec<u8>, Error> {
+        json::to_bytes(&json::fit(self))
     }
     fn csv(&self) -> Result<Vec<u8>, Error> {
         csv::fit(self)
+    }
+    fn svg(&self) -> Option<Result<Vec<u8>, Error>> {
+        let c = &self.calibration;
+        c.chart.as_ref().map(svg::fit_chart)
     }
 }
 
@@ -123,17 +118,24 @@ pub struct LuckReport {
     pub season_games: Option<u64>,
     pub regression_games: Option<f64>,
     pub teams: Vec<crate::luck::LuckLine>,
+    /// Positions in `teams` that the chart labels (`--plot`); `None` without a chart.
+    pub chart_labels: Option<Vec<usize>>,
 }
 
 impl Report for LuckReport {
     fn table(&self) -> String {
         table::luck(self)
     }
-    fn json(&self) -> serde_json::Value {
-        json::luck(self)
+    fn json(&self) -> Result<Vec<u8>, Error> {
+        json::to_bytes(&json::luck(self))
     }
     fn csv(&self) -> Result<Vec<u8>, Error> {
         csv::luck(self)
+    }
+    fn svg(&self) -> Option<Result<Vec<u8>, Error>> {
+        self.chart_labels
+            .as_ref()
+            .map(|labels| svg::luck_chart(&self.teams, labels))
     }
 }
 
@@ -145,14 +147,16 @@ pub struct BacktestReport {
     pub rows_used: usize,
     pub rows_rejected: usize,
     pub scores: Vec<crate::fit::backtest::CandidateScore>,
+    /// How far the second trails the best, in the loss.
+    pub margin: Option<f64>,
 }
 
 impl Report for BacktestReport {
     fn table(&self) -> String {
         table::backtest(self)
     }
-    fn json(&self) -> serde_json::Value {
-        json::backtest(self)
+    fn json(&self) -> Result<Vec<u8>, Error> {
+        json::to_bytes(&json::backtest(self))
     }
     fn csv(&self) -> Result<Vec<u8>, Error> {
         csv::backtest(self)
@@ -174,10 +178,29 @@ impl Report for CheckReport {
     fn table(&self) -> String {
         table::check(self)
     }
-    fn json(&self) -> serde_json::Value {
-        json::check(self)
+    fn json(&self) -> Result<Vec<u8>, Error> {
+        json::to_bytes(&json::check(self))
     }
     fn csv(&self) -> Result<Vec<u8>, Error> {
         csv::check(self)
+    }
+}
+
+/// The team-seasons of `runcal simulate` (the game log is streamed by the command itself).
+#[derive(Debug, Clone)]
+pub struct SimulateReport<'a> {
+    pub design: &'a crate::simulate::Design,
+    pub rows: Vec<crate::simulate::SeasonRow>,
+}
+
+impl Report for SimulateReport<'_> {
+    fn table(&self) -> String {
+        table::simulate(self)
+    }
+    fn json(&self) -> Result<Vec<u8>, Error> {
+        json::to_bytes(&json::simulate(self))
+    }
+    fn csv(&self) -> Result<Vec<u8>, Error> {
+        csv::simulate(self)
     }
 }

@@ -3,22 +3,11 @@
 use plotters::prelude::*;
 
 use crate::error::Error;
-use crate::luck::{LuckLine, TeamLine};
+use crate::fit::calibrate::FitChart;
+use crate::luck::LuckLine;
 
-fn draw_err(path: &str) -> impl Fn(String) -> Error + '_ {
-    move |msg| Error::Write {
-        file: path.to_string(),
-        source: std::io::Error::other(msg),
-    }
-}
-
-/// A loss curve over one parameter, with the optimum.
-#[derive(Debug, Clone)]
-pub struct LossCurve {
-    pub param: String,
-    pub loss: String,
-    pub points: Vec<(f64, f64)>,
-    pub optimum: (f64, f64),
+fn draw_err(msg: String) -> Error {
+    Error::Serialize(format!("chart: {msg}"))
 }
 
 fn bounds(values: impl Iterator<Item = f64>) -> (f64, f64) {
@@ -34,34 +23,36 @@ fn bounds(values: impl Iterator<Item = f64>) -> (f64, f64) {
     (lo - pad, hi + pad)
 }
 
-/// Render to a string first, then write atomically.
-fn save(
-    path: &str,
+/// Draw into an SVG document in memory.
+fn render(
     width: u32,
     height: u32,
     draw: impl FnOnce(DrawingArea<SVGBackend, plotters::coord::Shift>) -> Result<(), String>,
-) -> Result<(), Error> {
+) -> Result<Vec<u8>, Error> {
     let mut svg = String::new();
     {
         let root = SVGBackend::with_string(&mut svg, (width, height)).into_drawing_area();
-        root.fill(&WHITE)
-            .map_err(|e| draw_err(path)(e.to_string()))?;
-        draw(root.clone()).map_err(draw_err(path))?;
-        root.present().map_err(|e| draw_err(path)(e.to_string()))?;
+        root.fill(&WHITE).map_err(|e| draw_err(e.to_string()))?;
+        draw(root.clone()).map_err(draw_err)?;
+        root.present().map_err(|e| draw_err(e.to_string()))?;
     }
-    crate::output::write_atomic(path, svg.as_bytes())
+    Ok(svg.into_bytes())
 }
 
 /// Loss against the parameter (left) and a histogram of residual wins (right).
-pub fn write_fit_plot(path: &str, curve: &LossCurve, teams: &[TeamLine]) -> Result<(), Error> {
-    save(path, 1100, 480, |root| {
+pub fn fit_chart(data: &FitChart) -> Result<Vec<u8>, Error> {
+    let curve = &data.curve;
+    render(1100, 480, |root| {
         let (left, right) = root.split_horizontally(550);
         let e = |e: DrawingAreaErrorKind<std::io::Error>| e.to_string();
         let (x0, x1) = bounds(curve.points.iter().map(|p| p.0));
         let (y0, y1) = bounds(curve.points.iter().map(|p| p.1));
         let mut chart = ChartBuilder::on(&left)
             .caption(
-                format!("{} against {}", curve.loss, curve.param),
+                match &data.group {
+                    Some(g) => format!("{} against {} (group {g})", curve.loss, curve.param),
+                    None => format!("{} against {}", curve.loss, curve.param),
+                },
                 ("sans-serif", 20),
             )
             .margin(15)
@@ -93,15 +84,10 @@ pub fn write_fit_plot(path: &str, curve: &LossCurve, teams: &[TeamLine]) -> Resu
             .draw()
             .map_err(e)?;
 
-        let residuals: Vec<f64> = teams.iter().map(|t| t.luck_wins).collect();
-        let (r0, r1) = bounds(residuals.iter().copied());
-        let bins = 24usize;
-        let width = (r1 - r0) / bins as f64;
-        let mut counts = vec![0u32; bins];
-        for r in &residuals {
-            let b = (((r - r0) / width) as usize).min(bins - 1);
-            counts[b] += 1;
-        }
+        let h = &data.residuals;
+        let (r0, width) = (h.start, h.width);
+        let r1 = r0 + width * h.counts.len() as f64;
+        let counts = &h.counts;
         let top = counts.iter().copied().max().unwrap_or(1).max(1);
         let mut hist = ChartBuilder::on(&right)
             .caption(
@@ -127,9 +113,9 @@ pub fn write_fit_plot(path: &str, curve: &LossCurve, teams: &[TeamLine]) -> Resu
     })
 }
 
-/// Actual against expected win% with the identity line; the most extreme teams labelled.
-pub fn write_luck_plot(path: &str, lines: &[LuckLine]) -> Result<(), Error> {
-    save(path, 760, 680, |root| {
+/// Actual against expected win% with the identity line; the teams at `labels` named.
+pub fn luck_chart(lines: &[LuckLine], labels: &[usize]) -> Result<Vec<u8>, Error> {
+    render(760, 680, |root| {
         let e = |e: DrawingAreaErrorKind<std::io::Error>| e.to_string();
         let all = lines
             .iter()
@@ -165,13 +151,7 @@ pub fn write_luck_plot(path: &str, lines: &[LuckLine]) -> Result<(), Error> {
                 )
             }))
             .map_err(e)?;
-        // Lines arrive sorted by luck: label the three most ahead and the three most behind.
-        let n = lines.len();
-        let labelled: Vec<&LuckLine> = if n <= 6 {
-            lines.iter().collect()
-        } else {
-            lines[..3].iter().chain(&lines[n - 3..]).collect()
-        };
+        let labelled: Vec<&LuckLine> = labels.iter().filter_map(|&i| lines.get(i)).collect();
         chart
             .draw_series(labelled.iter().map(|l| {
                 Text::new(

@@ -141,7 +141,8 @@ pub fn fit(r: &FitReport) -> String {
     } else {
         out.push_str(&comparison(r));
     }
-    for f in r.fits.iter().filter(|f| f.fitted && !r.grouped) {
+    let c = &r.calibration;
+    for f in c.fits.iter().filter(|f| f.fitted && !r.grouped) {
         for line in uncertainty(f) {
             out.push_str(&line);
             out.push('\n');
@@ -153,11 +154,12 @@ pub fn fit(r: &FitReport) -> String {
             ));
         }
     }
-    if let Some(model) = &r.primary
-        && !r.teams.is_empty()
-        && r.top > 0
-    {
-        out.push_str(&performers(&r.teams, r.top, &model_label(model)));
+    if !c.ahead.is_empty() {
+        let model = match &c.teams_model {
+            Some(m) => model_label(m),
+            None => format!("each group's own {} fit", c.teams_kind),
+        };
+        out.push_str(&performers(&c.ahead, &c.behind, &model));
     }
     out
 }
@@ -179,13 +181,8 @@ fn comparison(r: &FitReport) -> String {
         "exponent range",
     ];
     let mut t = new_table(&header, 4);
-    let best = r
-        .fits
-        .iter()
-        .map(|f| f.loss_value())
-        .fold(f64::INFINITY, f64::min);
-    let mut ranked: Vec<&ModelFit> = r.fits.iter().collect();
-    ranked.sort_by(|a, b| a.loss_value().total_cmp(&b.loss_value()));
+    let c = &r.calibration;
+    let ranked: Vec<&ModelFit> = c.ranking.iter().map(|&i| &c.fits[i]).collect();
     for (i, f) in ranked.iter().enumerate() {
         let status = if f.fitted {
             "fitted".to_string()
@@ -217,16 +214,13 @@ fn comparison(r: &FitReport) -> String {
     s.push_str(
         "in-sample ranking; `runcal backtest` compares models on seasons they were not fitted to\n",
     );
-    if ranked.len() > 1 {
-        let first = ranked[0];
-        let second = ranked[1];
+    if let (Some(first), Some(second), Some(margin)) = (ranked.first(), ranked.get(1), c.margin) {
         s.push_str(&format!(
-            "best by {loss}: {} ({}), ahead of {} ({}) by {:.2e}\n",
+            "best by {loss}: {} ({}), ahead of {} ({}) by {margin:.2e}\n",
             first.model.kind,
             params(first),
             second.model.kind,
             params(second),
-            second.loss_value() - best
         ));
     }
     s
@@ -246,76 +240,53 @@ fn grouped(r: &FitReport) -> String {
         "note",
     ];
     let mut t = new_table(&header, 3);
-    let mut rows: Vec<(String, Vec<String>)> = Vec::new();
-    for f in &r.fits {
-        let g = f
-            .group
-            .as_ref()
-            .map(ToString::to_string)
-            .unwrap_or_else(|| "all".into());
-        let note = if f.converged {
-            String::new()
-        } else {
-            "not converged".to_string()
+    let c = &r.calibration;
+    for row in &c.group_rows {
+        let cells = match row {
+            crate::fit::calibrate::GroupRow::Fitted(i) => {
+                let f = &c.fits[*i];
+                let g = f
+                    .group
+                    .as_ref()
+                    .map(ToString::to_string)
+                    .unwrap_or_else(|| "all".into());
+                let note = if f.converged { "" } else { "not converged" };
+                vec![
+                    g,
+                    f.model.kind.to_string(),
+                    params(f),
+                    f.std_errors.as_ref().map_or("-".to_string(), |se| {
+                        se.corrected
+                            .iter()
+                            .map(|v| format!("{v:.4}"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    }),
+                    f.rows.to_string(),
+                    num(f.metrics.logloss, 6),
+                    num(f.metrics.mae, 5),
+                    num(f.metrics.rmse, 5),
+                    num(f.runs_per_win, 2),
+                    note.to_string(),
+                ]
+            }
+            crate::fit::calibrate::GroupRow::TooSmall(g, n) => {
+                let mut cells = vec![g.to_string(), "-".into(), "-".into(), "-".into()];
+                cells.push(n.to_string());
+                cells.extend(std::iter::repeat_n("-".to_string(), 4));
+                cells.push("too small to fit".into());
+                cells
+            }
         };
-        rows.push((
-            g.clone(),
-            vec![
-                g,
-                f.model.kind.to_string(),
-                params(f),
-                f.std_errors.as_ref().map_or("-".to_string(), |se| {
-                    se.corrected
-                        .iter()
-                        .map(|v| format!("{v:.4}"))
-                        .collect::<Vec<_>>()
-                        .join(", ")
-                }),
-                f.rows.to_string(),
-                num(f.metrics.logloss, 6),
-                num(f.metrics.mae, 5),
-                num(f.metrics.rmse, 5),
-                num(f.runs_per_win, 2),
-                note,
-            ],
-        ));
-    }
-    for (g, n) in &r.too_small {
-        let name = g.to_string();
-        rows.push((
-            name.clone(),
-            vec![
-                name,
-                "-".into(),
-                "-".into(),
-                "-".into(),
-                n.to_string(),
-                "-".into(),
-                "-".into(),
-                "-".into(),
-                "-".into(),
-                "too small to fit".into(),
-            ],
-        ));
-    }
-    rows.sort_by(|a, b| a.0.cmp(&b.0));
-    for (_, row) in rows {
-        t.add_row(row);
+        t.add_row(cells);
     }
     let mut s = t.to_string();
     s.push('\n');
     s
 }
 
-/// The largest over- and under-performers against a model.
-pub fn performers(teams: &[TeamLine], top: usize, model: &str) -> String {
-    let mut sorted: Vec<&TeamLine> = teams.iter().collect();
-    sorted.sort_by(|a, b| {
-        b.luck_wins
-            .total_cmp(&a.luck_wins)
-            .then_with(|| (a.season, &a.league, &a.team).cmp(&(b.season, &b.league, &b.team)))
-    });
-    let n = top.min(sorted.len());
+/// The largest over- and under-performers against a model, as the core listed them.
+pub fn performers(ahead: &[TeamLine], behind: &[TeamLine], model: &str) -> String {
     let mut s = String::new();
     let header = [
         "season",
@@ -328,11 +299,8 @@ pub fn performers(teams: &[TeamLine], top: usize, model: &str) -> String {
         "wins over expected",
     ];
     for (title, slice) in [
-        ("Most wins above their scoring", sorted[..n].to_vec()),
-        (
-            "Most wins below their scoring",
-            sorted.iter().rev().take(n).copied().collect::<Vec<_>>(),
-        ),
+        ("Most wins above their scoring", ahead),
+        ("Most wins below their scoring", behind),
     ] {
         let rows: Vec<Vec<String>> = slice
             .iter()
@@ -505,12 +473,11 @@ pub fn backtest(r: &super::BacktestReport) -> String {
     }
     out.push_str(&t.to_string());
     out.push('\n');
-    if let (Some(a), Some(b)) = (r.scores.first(), r.scores.get(1)) {
+    if let (Some(a), Some(b), Some(margin)) = (r.scores.first(), r.scores.get(1), r.margin) {
         out.push_str(&format!(
-            "best out of sample: {}, ahead of {} by {:.2e} in {}\n",
+            "best out of sample: {}, ahead of {} by {margin:.2e} in {}\n",
             a.candidate.label(),
             b.candidate.label(),
-            r.loss.of(&b.metrics) - r.loss.of(&a.metrics),
             r.loss.name()
         ));
     }
@@ -547,4 +514,23 @@ pub fn check(r: &super::CheckReport) -> String {
     out.push_str(&r.verdict);
     out.push('\n');
     out
+}
+
+/// The simulated team-seasons, readable.
+pub fn simulate(r: &super::SimulateReport<'_>) -> String {
+    let mut t = new_table(
+        &["season", "team", "games", "record", "runs", "runs allowed"],
+        2,
+    );
+    for row in &r.rows {
+        t.add_row(vec![
+            row.season.to_string(),
+            crate::simulate::club_name(row.team),
+            row.games.to_string(),
+            record(row.wins, row.losses, 0),
+            row.runs_scored.to_string(),
+            row.runs_allowed.to_string(),
+        ]);
+    }
+    format!("{t}\n")
 }

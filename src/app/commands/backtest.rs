@@ -64,6 +64,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         loss,
         rows_used: ds.rows.len(),
         rows_rejected: ds.rejected.len(),
+        margin: backtest::margin(&scores, loss),
         scores,
     };
     super::emit(&report, &args.output, files)?;

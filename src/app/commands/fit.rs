@@ -1,11 +1,12 @@
 //! `runcal fit`: fit a league's exponent (or every model) and compare with published references.
 
-use crate::app::cli::{InputArgs, LossArg, OutputArgs, ResampleArg};
+use crate::app::cli::{FormatArg, InputArgs, LossArg, OutputArgs, ResampleArg, level, positive};
 use runcal::error::Error;
-use runcal::fit::{self, GroupBy, Loss, ModelFit, bootstrap};
-use runcal::model::{Model, ModelKind};
+use runcal::fit::calibrate::{Plan, calibrate};
+use runcal::fit::{GroupBy, bootstrap};
+use runcal::model::Model;
+use runcal::profile::Profile;
 use runcal::report::FitReport;
-use runcal::{luck, profile};
 
 /// Fit win-expectation models to team-season (or game-log) data
 ///
@@ -28,7 +29,7 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = LossArg::Logloss)]
     pub loss: LossArg,
     /// Score this Pythagorean exponent instead of fitting one.
-    #[arg(long, value_name = "X", conflicts_with_all = ["by", "bootstrap", "model"])]
+    #[arg(long, value_name = "X", value_parser = positive, conflicts_with_all = ["by", "bootstrap", "model"])]
     pub exponent: Option<f64>,
     /// Fit each season, league, or season and league separately.
     #[arg(long, value_name = "season|league|season,league")]
@@ -52,7 +53,7 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = ResampleArg::Team)]
     pub resample: ResampleArg,
     /// Coverage of the bootstrap intervals.
-    #[arg(long, default_value_t = 0.95, value_name = "L")]
+    #[arg(long, default_value_t = 0.95, value_name = "L", value_parser = level)]
     pub ci_level: f64,
     /// Save the first model's calibration as a profile for `luck` and `check`.
     #[arg(long, value_name = "FILE")]
@@ -78,156 +79,54 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         ],
         files,
     )?;
-    if !(args.ci_level > 0.0 && args.ci_level < 1.0) {
-        return Err(Error::Usage(format!(
-            "--ci-level must lie between 0 and 1, got {}",
-            args.ci_level
-        )));
-    }
-    let loss: Loss = args.loss.into();
-    let kinds = super::parse_models(&args.model)?;
     let (ds, table) = super::load(&args.input, None, &diag)?;
-    let mut fits: Vec<ModelFit> = Vec::new();
-    let mut too_small = Vec::new();
-    let mut teams = Vec::new();
-    let primary: Model;
-
-    if let Some(x) = args.exponent {
-        if !(x.is_finite() && x > 0.0) {
-            return Err(Error::Usage(format!(
-                "--exponent must be a positive number, got {x}"
-            )));
-        }
-        primary = Model::new(ModelKind::Pythagorean, vec![x]);
-        fits.push(fit::score_model(&table, primary.clone(), loss));
-        teams = luck::team_lines(&ds.rows, &table, &primary);
-    } else if let Some(by) = args.by {
-        let groups = fit::group_rows(&ds.rows, by);
-        let mut first: Option<Model> = None;
-        for (group, idx) in groups {
-            if idx.len() < args.min_group {
-                too_small.push((group, idx.len()));
-                continue;
-            }
-            let sub = table.subset(&idx);
-            let rows: Vec<_> = idx.iter().map(|&i| ds.rows[i].clone()).collect();
-            for (j, &kind) in kinds.iter().enumerate() {
-                let mut f = fit::fit_model(&sub, kind, loss)?;
-                if args.bootstrap > 0 {
-                    f.intervals =
-                        Some(bootstrap::run(&sub, &rows, &f, &boot_options(args, &diag))?);
-                }
-                f.group = Some(group.clone());
-                if j == 0 {
-                    teams.extend(luck::team_lines(&rows, &sub, &f.model));
-                    first.get_or_insert_with(|| f.model.clone());
-                }
-                fits.push(f);
-            }
-        }
-        primary = first.ok_or_else(|| {
-            Error::Usage(format!(
-                "every group has fewer than --min-group {} team-seasons",
-                args.min_group
-            ))
-        })?;
-    } else {
-        for &kind in &kinds {
-            let mut f = fit::fit_model(&table, kind, loss)?;
-            diag.debug(&format!(
-                "{kind}: {} iterations, converged {}",
-                f.iterations, f.converged
-            ));
-            if args.bootstrap > 0 {
-                f.intervals = Some(bootstrap::run(
-                    &table,
-                    &ds.rows,
-                    &f,
-                    &boot_options(args, &diag),
-                )?);
-            }
-            fits.push(f);
-        }
-        // The first model named is the primary one; with several, the best by the loss.
-        fit::rank(&mut fits);
-        primary = fits[0].model.clone();
-        // JSON shows no team lines (the table, the CSV and the chart do): with a game log there is
-        // one per team-season.
-        if args.output.format != crate::app::cli::FormatArg::Json || args.plot.is_some() {
-            teams = luck::team_lines(&ds.rows, &table, &primary);
-        }
+    let plan = Plan {
+        models: super::parse_models(&args.model)?,
+        loss: args.loss.into(),
+        exponent: args.exponent,
+        by: args.by,
+        min_group: args.min_group,
+        references: args.references.clone(),
+        standard_references: !args.no_references,
+        bootstrap: (args.bootstrap > 0).then(|| bootstrap::Options {
+            resamples: args.bootstrap,
+            seed: args.seed,
+            resample: args.resample.into(),
+            level: args.ci_level,
+            progress: !diag.quiet,
+        }),
+        top: args.top,
+        // JSON shows no team lines (one per team-season of a game log); the chart does.
+        team_lines: args.output.format != FormatArg::Json || args.plot.is_some(),
+        chart: args.plot.is_some(),
+    };
+    let calibration = calibrate(&ds.rows, &table, &plan)?;
+    for f in calibration.fits.iter().filter(|f| f.fitted) {
+        let (kind, n, ok) = (f.model.kind, f.iterations, f.converged);
+        diag.debug(&format!("{kind}: {n} iterations, converged {ok}"));
     }
-
-    if !args.grouped() {
-        let mut refs: Vec<ModelFit> = Vec::new();
-        let standard = if args.no_references {
-            Vec::new()
-        } else {
-            fit::standard_references()
-        };
-        for m in standard.into_iter().chain(args.references.iter().cloned()) {
-            if !refs.iter().any(|r| r.model == m) {
-                refs.push(fit::score_model(&table, m, loss));
-            }
-        }
-        fit::rank(&mut refs);
-        fits.extend(refs);
-    }
-
     if let Some(path) = &args.save_profile {
-        let f = fits
-            .iter()
-            .find(|f| f.fitted && f.group.is_none())
+        let f = calibration
+            .saved
+            .map(|i| &calibration.fits[i])
             .ok_or_else(|| {
                 Error::Usage(
-                    "--save-profile needs a fit over all rows (not --by or --exponent)".to_string(),
+                    "--save-profile needs a fit over all rows (not --by or --exponent)".into(),
                 )
             })?;
-        let p = profile::Profile::from_fit(
-            f,
-            &ds,
-            &table,
-            args.input.tie_policy(),
-            args.input.weighting(),
-            files,
-        )?;
-        p.save(path)?;
-        diag.note(&format!("saved calibration to {path}"));
+        let (ties, weight) = (args.input.tie_policy(), args.input.weighting());
+        Profile::from_fit(f, &ds, &table, ties, weight, files)?.save(path)?;
+        diag.note(&format!("saved {} to {path}", f.model.label()));
     }
-    if let Some(path) = &args.plot {
-        let curve = fit::loss_curve(&table, &primary, loss);
-        runcal::report::svg::write_fit_plot(path, &curve, &teams)?;
-        diag.note(&format!("wrote {path}"));
-    }
-
     let report = FitReport {
         rows_used: ds.rows.len(),
         rows_rejected: ds.rejected.len(),
-        loss,
+        loss: plan.loss,
         seasons: super::season_span(&ds),
-        fits,
-        too_small,
-        grouped: args.grouped(),
-        teams,
-        primary: Some(primary),
-        top: args.top,
+        grouped: args.by.is_some(),
+        calibration,
     };
+    super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     super::emit(&report, &args.output, files)?;
     Ok(0)
-}
-
-impl Args {
-    fn grouped(&self) -> bool {
-        self.by.is_some()
-    }
-}
-
-fn boot_options(args: &Args, diag: &runcal::output::Diagnostics) -> bootstrap::Options {
-    bootstrap::Options {
-        resamples: args.bootstrap,
-        seed: args.seed,
-        resample: args.resample.into(),
-        level: args.ci_level,
-        progress: !diag.quiet,
-    }
 }

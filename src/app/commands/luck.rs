@@ -115,16 +115,8 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         (None, _) => None,
     };
     let mut lines = luck::luck_lines(&ds.rows, &table, &model, regression);
-    if let Some(n) = args.top
-        && 2 * n < lines.len()
-    {
-        let tail = lines.split_off(lines.len() - n);
-        lines.truncate(n);
-        lines.extend(tail);
-    }
-    if let Some(path) = &args.plot {
-        runcal::report::svg::write_luck_plot(path, &lines)?;
-        diag.note(&format!("wrote {path}"));
+    if let Some(n) = args.top {
+        luck::keep_extremes(&mut lines, n);
     }
     let report = LuckReport {
         model,
@@ -134,8 +126,13 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         as_of: args.as_of,
         season_games,
         regression_games: regression.map(|(k, _)| k),
+        chart_labels: args
+            .plot
+            .is_some()
+            .then(|| luck::labelled_extremes(lines.len())),
         teams: lines,
     };
+    super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     super::emit(&report, &args.output, files)?;
     Ok(0)
 }

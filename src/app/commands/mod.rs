@@ -44,6 +44,22 @@ pub fn emit(report: &dyn Report, out: &OutputArgs, inputs: &[String]) -> Result<
     runcal::output::emit(out.output.as_deref(), &inputs, &bytes)
 }
 
+/// Write a report's chart to `path` (`--plot`), atomically and never over an input.
+pub fn write_chart(
+    report: &dyn Report,
+    path: Option<&str>,
+    inputs: &[String],
+    diag: &Diagnostics,
+) -> Result<(), Error> {
+    let (Some(path), Some(svg)) = (path, report.svg()) else {
+        return Ok(());
+    };
+    let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
+    runcal::output::emit(Some(path), &inputs, &svg?)?;
+    diag.note(&format!("wrote {path}"));
+    Ok(())
+}
+
 /// Parse `--model a,b` or `all`, keeping the user's order and dropping repeats.
 pub fn parse_models(list: &str) -> Result<Vec<ModelKind>, Error> {
     if list.trim().eq_ignore_ascii_case("all") {

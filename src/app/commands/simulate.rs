@@ -5,8 +5,9 @@ use std::io::Write;
 use crate::app::cli::FormatArg as Format;
 use runcal::error::Error;
 use runcal::model::Model;
+use runcal::report::SimulateReport;
 use runcal::report::csv::safe;
-use runcal::simulate::{self, Design, SeasonRow};
+use runcal::simulate::{self, Design};
 
 /// Simulate a league with a known exponent.
 ///
@@ -165,72 +166,7 @@ fn write_league(w: &mut impl Write, design: &Design, args: &Args, name: &str) ->
         None => simulate::seasons(design),
     }
     .map_err(Error::Usage)?;
-    let bytes = render(&rows, design, args.format)?;
+    let report = SimulateReport { design, rows };
+    let bytes = runcal::report::render(&report, args.format.into())?;
     w.write_all(&bytes).map_err(write_err(name))
-}
-
-fn render(rows: &[SeasonRow], design: &Design, format: Format) -> Result<Vec<u8>, Error> {
-    match format {
-        Format::Csv => {
-            let mut w = csv::Writer::from_writer(Vec::new());
-            w.write_record([
-                "season",
-                "league",
-                "team",
-                "games",
-                "wins",
-                "losses",
-                "runs_scored",
-                "runs_allowed",
-            ])
-            .map_err(runcal::report::csv::write_err)?;
-            for r in rows {
-                w.write_record([
-                    r.season.to_string(),
-                    safe(&design.league).into_owned(),
-                    safe(&simulate::club_name(r.team)).into_owned(),
-                    r.games.to_string(),
-                    r.wins.to_string(),
-                    r.losses.to_string(),
-                    r.runs_scored.to_string(),
-                    r.runs_allowed.to_string(),
-                ])
-                .map_err(runcal::report::csv::write_err)?;
-            }
-            runcal::report::csv::finish(w)
-        }
-        Format::Json => {
-            let v = serde_json::json!({
-                "schema": "runcal.simulate/1",
-                "design": {"teams": design.teams, "seasons": design.seasons, "games": design.games,
-                           "exponent": design.shape, "runs_per_game": design.runs_per_game,
-                           "talent_sd": design.talent_sd, "seed": design.seed, "league": design.league},
-                "teams": rows.iter().map(|r| serde_json::json!({
-                    "season": r.season, "league": design.league, "team": simulate::club_name(r.team), "games": r.games,
-                    "wins": r.wins, "losses": r.losses, "runs_scored": r.runs_scored, "runs_allowed": r.runs_allowed,
-                })).collect::<Vec<_>>(),
-            });
-            let mut s =
-                serde_json::to_string_pretty(&v).map_err(|e| Error::Usage(e.to_string()))?;
-            s.push('\n');
-            Ok(s.into_bytes())
-        }
-        Format::Table => {
-            let mut t = runcal::report::table::new_table(
-                &["season", "team", "games", "record", "runs", "runs allowed"],
-                2,
-            );
-            for r in rows {
-                t.add_row(vec![
-                    r.season.to_string(),
-                    simulate::club_name(r.team),
-                    r.games.to_string(),
-                    runcal::report::record(r.wins, r.losses, 0),
-                    r.runs_scored.to_string(),
-                    r.runs_allowed.to_string(),
-                ]);
-            }
-            Ok(format!("{t}\n").into_bytes())
-        }
-    }
 }
