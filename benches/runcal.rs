@@ -5,6 +5,8 @@
 //! `cargo bench` runs them all in a few minutes; `cargo bench -- bootstrap` runs one group.
 //! Whole-program comparisons with a numpy/scipy/pandas reference are in bench/compare.sh.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 use std::io::Write;
 use std::path::PathBuf;
 use std::time::Duration;

@@ -3,6 +3,8 @@
 //!
 //! Usage: `cargo run --release --example scan_csv -- FILE`
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 use std::fs::File;
 use std::io::BufReader;
 

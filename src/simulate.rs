@@ -62,7 +62,7 @@ pub struct Design {
 
 impl Design {
     pub fn validate(&self) -> Result<(), String> {
-        if self.teams < 2 || self.teams % 2 != 0 {
+        if self.teams < 2 || !self.teams.is_multiple_of(2) {
             return Err(format!(
                 "--teams must be an even number of at least 2 (every team plays every round), got {}",
                 self.teams

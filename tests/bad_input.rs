@@ -5,6 +5,8 @@
 //!
 //! The teams and numbers in these files are invented, for robustness tests only.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 use std::collections::BTreeSet;
 use std::path::{Path, PathBuf};
 

@@ -1,5 +1,7 @@
 //! The CI gate, exit codes, atomic output and command-line manners.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 mod common;
 
 use common::{repo, runcal};
@@ -204,6 +206,15 @@ fn exit_codes_are_0_1_2() {
         .assert()
         .code(2)
         .stderr(contains("--profile"));
+    // A check that runs and fails is exit code 1, not 2.
+    let (dir, profile) = setup();
+    let drifted = simulate(dir.path(), "drifted.csv", "2.6", "12");
+    runcal()
+        .args(["check", "-q", "--profile"])
+        .arg(&profile)
+        .arg(&drifted)
+        .assert()
+        .code(1);
     runcal()
         .arg("--help")
         .assert()

@@ -1,5 +1,7 @@
 //! `runcal fit` through the command line, checked against outside sources.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 mod common;
 
 use common::{DATABANK_MAPS, close, databank_path, f, reference, repo, runcal};

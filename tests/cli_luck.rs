@@ -1,5 +1,7 @@
 //! Game logs, saved calibrations and the weekly luck report.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 mod common;
 
 use assert_cmd::Command;
@@ -103,8 +105,19 @@ fn as_of_cuts_the_season_at_a_date() {
     );
     // Through 2 April: Harbor 1-0 (5-4), Mill 0-2 (4-5, 2-7), Quarry 1-0 (7-2).
     let teams = v["teams"].as_array().unwrap();
-    let games: u64 = teams.iter().map(|t| t["games"].as_u64().unwrap()).sum();
-    assert_eq!(games, 4);
+    let record = |name: &str| {
+        let t = teams.iter().find(|t| t["team"] == name).unwrap();
+        (
+            t["wins"].as_u64().unwrap(),
+            t["losses"].as_u64().unwrap(),
+            f(&t["runs_scored"]),
+            f(&t["runs_allowed"]),
+        )
+    };
+    assert_eq!(teams.len(), 3);
+    assert_eq!(record("Harbor"), (1, 0, 5.0, 4.0));
+    assert_eq!(record("Mill"), (0, 2, 6.0, 12.0));
+    assert_eq!(record("Quarry"), (1, 0, 7.0, 2.0));
     assert_eq!(v["as_of"], "2026-04-02");
 }
 

@@ -17,6 +17,8 @@
 //!
 //! The teams and numbers here are invented, for robustness tests only.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 use std::collections::{BTreeMap, HashSet};
 use std::io::Write;
 

@@ -2,6 +2,8 @@
 //! tests/data/DATABANK-LICENSE.md). Every expected value comes from tests/reference/reference.py, which
 //! computed it with statsmodels 0.15 and scipy 1.17 (versions in tests/reference/requirements.txt).
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 mod common;
 
 use common::{close, databank, f, reference, table};

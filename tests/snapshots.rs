@@ -1,6 +1,8 @@
 //! Every command's JSON against committed files, so that a change of shape is always deliberate.
 //! `UPDATE_SNAPSHOTS=1 cargo test --test snapshots` rewrites them; review the diff before committing.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 mod common;
 
 use assert_cmd::Command;
