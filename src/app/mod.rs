@@ -2,6 +2,7 @@
 //! one short file per command, and the mapping of results to exit codes. The library does not export
 //! any of it; the core knows nothing of clap or the terminal.
 
+pub mod args;
 pub mod cli;
 pub mod commands;
 

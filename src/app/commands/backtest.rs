@@ -1,6 +1,6 @@
 //! `runcal backtest`: which model predicts best on seasons it was not fitted to.
 
-use crate::app::cli::{InputArgs, LossArg, OutputArgs, SchemeArg};
+use crate::app::args::{InputArgs, LossArg, OutputArgs, SchemeArg};
 use runcal::error::Error;
 use runcal::fit::backtest::{self, Candidate};
 use runcal::fit::{self, Loss};

@@ -1,6 +1,6 @@
 //! `runcal check`: the CI gate. Exit 1 when new data drift from the saved calibration.
 
-use crate::app::cli::{InputArgs, OutputArgs};
+use crate::app::args::{InputArgs, OutputArgs};
 use runcal::error::Error;
 use runcal::fit::{self, loss};
 use runcal::gate::{self, Bounds};
@@ -95,7 +95,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         rules,
     };
     super::emit(&report, &args.output, files)?;
-    if !passed && args.output.format != crate::app::cli::FormatArg::Table {
+    if !passed && args.output.format != crate::app::args::FormatArg::Table {
         // Machine formats go to stdout; the reason still reaches a person reading the CI log.
         diag.warn(&report.verdict);
     }

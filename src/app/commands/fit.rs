@@ -1,6 +1,6 @@
 //! `runcal fit`: fit a league's exponent (or every model) and compare with published references.
 
-use crate::app::cli::{FormatArg, InputArgs, LossArg, OutputArgs, ResampleArg, level, positive};
+use crate::app::args::{FormatArg, InputArgs, LossArg, OutputArgs, ResampleArg, level, positive};
 use runcal::error::Error;
 use runcal::fit::calibrate::{Plan, calibrate};
 use runcal::fit::{GroupBy, bootstrap};

@@ -1,6 +1,6 @@
 //! `runcal luck`: the weekly report of teams ahead of or behind their scoring, with projections.
 
-use crate::app::cli::{InputArgs, OutputArgs};
+use crate::app::args::{InputArgs, OutputArgs};
 use runcal::data::gamelog::Date;
 use runcal::error::Error;
 use runcal::fit::{self, Loss};

@@ -6,7 +6,7 @@ pub mod fit;
 pub mod luck;
 pub mod simulate;
 
-use crate::app::cli::{InputArgs, OutputArgs};
+use crate::app::args::{InputArgs, OutputArgs};
 use runcal::data::{self, Dataset, Table, gamelog::Date};
 use runcal::error::Error;
 use runcal::model::ModelKind;

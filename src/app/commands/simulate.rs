@@ -2,7 +2,7 @@
 
 use std::io::Write;
 
-use crate::app::cli::FormatArg as Format;
+use crate::app::args::FormatArg as Format;
 use runcal::error::Error;
 use runcal::model::Model;
 use runcal::report::SimulateReport;

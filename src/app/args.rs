@@ -1,0 +1,163 @@
+//! Options several commands share (input, output), clap mirrors of the core's enums, and value
+//! parsers. Commands import this file; the top-level parser (`cli.rs`) imports the commands.
+
+use clap::{Args, ValueEnum};
+
+use runcal::data::{self, Mapping, SeasonRange, TiePolicy, Weighting};
+use runcal::fit::{Loss, backtest::Scheme, bootstrap::Resample};
+use runcal::report::Format;
+
+/// Where the rows come from and which of them to use.
+#[derive(Debug, Clone, Args)]
+pub struct InputArgs {
+    /// Input CSV files (`-` reads standard input). Several files are read as one table.
+    #[arg(required = true, value_name = "FILES")]
+    pub files: Vec<String>,
+    /// The inputs are game logs (one row per game: date, home, away, home_score, away_score).
+    #[arg(long)]
+    pub games: bool,
+    /// Use column HEADER for ROLE (repeatable), e.g. --map runs_scored=R.
+    #[arg(long = "map", value_name = "ROLE=HEADER")]
+    pub maps: Vec<Mapping>,
+    /// Keep only these seasons: 2019 or 1980-2006.
+    #[arg(long, value_name = "A-B")]
+    pub seasons: Option<SeasonRange>,
+    /// Keep only this league (case-insensitive).
+    #[arg(long, value_name = "X")]
+    pub league: Option<String>,
+    /// How ties count toward win%: half a win and half a loss, or left out.
+    #[arg(long, value_enum, default_value_t = TiesArg::Half)]
+    pub ties: TiesArg,
+    /// Weight team-seasons in MAE and RMSE equally or by games.
+    #[arg(long, value_enum, default_value_t = WeightArg::None)]
+    pub weight: WeightArg,
+    /// Go on past bad rows: list each on stderr and count it as rejected.
+    #[arg(long)]
+    pub skip_invalid: bool,
+    /// Refuse inputs with more rows than this (protects against runaway files).
+    #[arg(long, value_name = "N", default_value_t = 50_000_000)]
+    pub max_rows: u64,
+}
+
+impl InputArgs {
+    pub fn load_options(&self) -> data::LoadOptions {
+        data::LoadOptions {
+            maps: self.maps.clone(),
+            seasons: self.seasons,
+            league: self.league.clone(),
+            skip_invalid: self.skip_invalid,
+            max_rows: self.max_rows,
+            ..data::LoadOptions::default()
+        }
+    }
+
+    /// The same inputs read the way a saved calibration defines win% and weights.
+    pub fn as_in_profile(&self, p: &runcal::profile::Profile) -> InputArgs {
+        InputArgs {
+            ties: p.ties.into(),
+            weight: p.weight.into(),
+            ..self.clone()
+        }
+    }
+
+    pub fn tie_policy(&self) -> TiePolicy {
+        self.ties.into()
+    }
+
+    pub fn weighting(&self) -> Weighting {
+        self.weight.into()
+    }
+}
+
+/// A clap mirror of a core enum (the core carries no clap derive): the same variants, converted both
+/// ways. Variant doc comments become the help of each possible value.
+macro_rules! value_mirror {
+    ($(#[$meta:meta])* $name:ident => $core:ident { $($(#[$vmeta:meta])* $variant:ident),+ $(,)? }) => {
+        $(#[$meta])*
+        #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+        pub enum $name {
+            $($(#[$vmeta])* $variant),+
+        }
+        impl From<$name> for $core {
+            fn from(v: $name) -> $core {
+                match v { $($name::$variant => $core::$variant),+ }
+            }
+        }
+        impl From<$core> for $name {
+            fn from(v: $core) -> $name {
+                match v { $($core::$variant => $name::$variant),+ }
+            }
+        }
+    };
+}
+
+value_mirror!(TiesArg => TiePolicy { Half, Exclude });
+value_mirror!(WeightArg => Weighting { None, Games });
+value_mirror!(
+    /// Output format.
+    FormatArg => Format { Table, Json, Csv }
+);
+value_mirror!(
+    /// What a fit minimises.
+    LossArg => Loss {
+        /// Mean absolute error in win%.
+        Mae,
+        /// Root mean squared error in win%.
+        Rmse,
+        /// Binomial log-likelihood per game.
+        Logloss,
+    }
+);
+value_mirror!(
+    /// What the bootstrap draws with replacement.
+    ResampleArg => Resample {
+        /// Team-seasons, independently.
+        Team,
+        /// Whole seasons, keeping every team of a drawn season together.
+        Season,
+    }
+);
+value_mirror!(
+    /// How a backtest holds seasons out.
+    SchemeArg => Scheme {
+        /// Fit on every other season, score each season in turn.
+        LeaveOneSeasonOut,
+        /// Fit on all seasons before Y, score Y ("calibrate before the season").
+        Rolling,
+    }
+);
+
+/// Where and how results are written.
+#[derive(Debug, Clone, Args)]
+pub struct OutputArgs {
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
+    pub format: FormatArg,
+    /// Write the result to FILE (atomically) instead of stdout.
+    #[arg(long, short = 'o', value_name = "FILE")]
+    pub output: Option<String>,
+    /// Print no warnings or progress on stderr.
+    #[arg(long, short = 'q')]
+    pub quiet: bool,
+    /// Print diagnostics on stderr (every warning, solver details).
+    #[arg(long, short = 'v')]
+    pub verbose: bool,
+}
+
+/// A finite number greater than zero (`--exponent`, `--max-drift`, …).
+pub fn positive(s: &str) -> Result<f64, String> {
+    match s.trim().parse::<f64>() {
+        Ok(x) if x.is_finite() && x > 0.0 => Ok(x),
+        _ => Err(format!("expected a positive number, got '{s}'")),
+    }
+}
+
+/// A level strictly between 0 and 1 (`--ci-level`).
+pub fn level(s: &str) -> Result<f64, String> {
+    match s.trim().parse::<f64>() {
+        Ok(x) if x > 0.0 && x < 1.0 => Ok(x),
+        _ => Err(format!(
+            "expected a level between 0 and 1 (e.g. 0.95), got '{s}'"
+        )),
+    }
+}
