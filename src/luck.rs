@@ -1,4 +1,14 @@
-//! Expected wins, luck in wins and in binomial z, regression to the mean, rest-of-season projections.
+//! Expected wins, luck in wins and as a z under the calibrated noise model, regression to the mean,
+//! rest-of-season projections.
+
+pub mod noise;
+pub mod projection;
+
+pub use noise::{FAMILY_LEVEL, Noise, NoiseSource, holm, pearson_dispersion};
+pub use projection::{
+    Outlook, Projection, RANGE_LEVEL, beta_binomial_quantile, central_range, project,
+    run_based_regression_games,
+};
 
 use crate::data::{Table, TeamSeason};
 use crate::model::{Model, Row, predict};
@@ -57,10 +67,9 @@ pub fn team_lines(rows: &[TeamSeason], t: &Table, model: &Model) -> Vec<TeamLine
         .collect()
 }
 
-/// Luck as a binomial z-score: (W − n·p̂)/sqrt(n·p̂(1 − p̂)); `None` when p̂ is 0 or 1.
+/// Luck as a binomial z-score, (W − n·p̂)/sqrt(n·p̂(1 − p̂)): the quasi-binomial z with φ = 1.
 pub fn luck_z(wins: f64, decisions: f64, p: f64) -> Option<f64> {
-    let var = decisions * p * (1.0 - p);
-    (var > 0.0).then(|| (wins - decisions * p) / var.sqrt())
+    Noise::binomial().z(wins, decisions, p)
 }
 
 /// Two-sided normal p-value of a z-score: 2·(1 − Φ(|z|)) = erfc(|z|/√2).
@@ -68,9 +77,10 @@ pub fn two_sided_p(z: f64) -> f64 {
     statrs::function::erf::erfc(z.abs() / std::f64::consts::SQRT_2)
 }
 
-/// Games of regression to .500 by the usual variance split of the table's win%:
-/// var_true = var(win%) − mean(0.25/n), k = 0.25/var_true. `None` when the observed spread is no
-/// larger than binomial noise alone.
+/// Games of regression to .500 for the *actual* record by the usual variance split of the table's
+/// win%: var_true = var(win%) − mean(0.25/n), k = 0.25/var_true. `None` when the observed spread is
+/// no larger than binomial noise alone. The run-based record's constant is
+/// [`run_based_regression_games`].
 pub fn regression_games(t: &Table) -> Option<f64> {
     let n = t.len();
     if n < 2 {
@@ -83,72 +93,28 @@ pub fn regression_games(t: &Table) -> Option<f64> {
     (var_true > 0.0).then(|| 0.25 / var_true)
 }
 
-/// Rest-of-season projection of one team.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Projection {
-    pub remaining: u64,
-    /// Expected win% regressed toward .500 by k games: (n·p̂ + k/2)/(n + k).
-    pub regressed_win_pct: f64,
-    /// Wins so far (ties as half) + remaining × regressed win%.
-    pub projected_wins: f64,
-    /// 80% interval of final wins: wins so far + the 10% and 90% quantiles of a beta-binomial.
-    pub interval: (f64, f64),
-}
-
-/// Project final wins: the remaining games follow a beta-binomial whose beta has k/2 + n·p̂ and
-/// k/2 + n·(1 − p̂), i.e. a .500 prior worth k games updated by n games at the expected win%.
-pub fn project(
-    wins: f64,
-    decisions: f64,
-    expected: f64,
-    k: f64,
-    season_games: u64,
-    played: u64,
-) -> Projection {
-    let remaining = season_games.saturating_sub(played);
-    let alpha = k / 2.0 + decisions * expected;
-    let beta = k / 2.0 + decisions * (1.0 - expected);
-    let p = alpha / (alpha + beta);
-    let lo = beta_binomial_quantile(remaining, alpha, beta, 0.1);
-    let hi = beta_binomial_quantile(remaining, alpha, beta, 0.9);
-    Projection {
-        remaining,
-        regressed_win_pct: p,
-        projected_wins: wins + remaining as f64 * p,
-        interval: (wins + lo as f64, wins + hi as f64),
-    }
-}
-
-/// The smallest j with P(X ≤ j) ≥ q for X ~ BetaBinomial(n, α, β) (the same convention as a
-/// discrete percent-point function).
-pub fn beta_binomial_quantile(n: u64, alpha: f64, beta: f64, q: f64) -> u64 {
-    use statrs::function::gamma::ln_gamma;
-    if n == 0 {
-        return 0;
-    }
-    let nf = n as f64;
-    let ln_beta = |a: f64, b: f64| ln_gamma(a) + ln_gamma(b) - ln_gamma(a + b);
-    let base = ln_gamma(nf + 1.0) - ln_beta(alpha, beta);
-    let mut cdf = 0.0;
-    for j in 0..=n {
-        let jf = j as f64;
-        let ln_pmf = base - ln_gamma(jf + 1.0) - ln_gamma(nf - jf + 1.0)
-            + ln_beta(jf + alpha, nf - jf + beta);
-        cdf += ln_pmf.exp();
-        // A hair of slack so that rounding in the sum does not push a quantile one step up.
-        if cdf >= q - 1e-12 {
-            return j;
-        }
-    }
-    n
+/// How far a team's record runs from its scoring, in the noise model's terms.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Signal {
+    /// z ≥ [`NOTABLE_Z`].
+    Ahead,
+    /// z ≤ −[`NOTABLE_Z`].
+    Behind,
+    Within,
 }
 
 /// A team in the weekly report.
 #[derive(Debug, Clone, PartialEq)]
 pub struct LuckLine {
     pub line: TeamLine,
+    /// (W − n·p̂)/sqrt(φ·n·p̂(1 − p̂)) under the report's noise model.
     pub luck_z: Option<f64>,
     pub luck_p: Option<f64>,
+    pub signal: Signal,
+    /// Holm-adjusted p over the teams shown.
+    pub holm_p: Option<f64>,
+    /// The Holm-adjusted p is at most [`FAMILY_LEVEL`]: the gap stands out even among all teams shown.
+    pub beyond_chance: bool,
     pub one_run: Option<(u64, u64)>,
     pub projection: Option<Projection>,
 }
@@ -156,32 +122,44 @@ pub struct LuckLine {
 /// |z| at or above this is called out in words.
 pub const NOTABLE_Z: f64 = 2.0;
 
+/// The name of the multiplicity adjustment, as the outputs print it.
+pub const MULTIPLICITY: &str = "holm";
+
 /// Build the weekly report's lines, sorted by luck in wins (most ahead of their scoring first; ties
-/// broken by season, league, team).
+/// broken by season, league, team). With `top`, only the `top` most ahead and most behind are kept;
+/// Holm's adjustment runs over the lines kept.
 pub fn luck_lines(
     rows: &[TeamSeason],
     t: &Table,
     model: &Model,
-    regression: Option<(f64, u64)>,
+    noise: &Noise,
+    outlook: Option<&Outlook>,
+    top: Option<usize>,
 ) -> Vec<LuckLine> {
     let mut out: Vec<LuckLine> = team_lines(rows, t, model)
         .into_iter()
         .enumerate()
         .map(|(i, line)| {
-            let z = luck_z(t.wins[i], t.decisions[i], line.expected_win_pct);
-            let projection = regression.map(|(k, season_games)| {
+            let z = noise.z(t.wins[i], t.decisions[i], line.expected_win_pct);
+            let projection = outlook.map(|o| {
                 project(
                     t.wins[i],
                     t.decisions[i],
                     line.expected_win_pct,
-                    k,
-                    season_games,
+                    o,
                     rows[i].games,
                 )
             });
             LuckLine {
                 luck_z: z,
                 luck_p: z.map(two_sided_p),
+                signal: match z {
+                    Some(z) if z >= NOTABLE_Z => Signal::Ahead,
+                    Some(z) if z <= -NOTABLE_Z => Signal::Behind,
+                    _ => Signal::Within,
+                },
+                holm_p: None,
+                beyond_chance: false,
                 one_run: rows[i].one_run,
                 projection,
                 line,
@@ -189,11 +167,19 @@ pub fn luck_lines(
         })
         .collect();
     out.sort_by(|a, b| most_ahead_first(&a.line, &b.line));
+    if let Some(n) = top {
+        keep_extremes(&mut out, n);
+    }
+    let p: Vec<Option<f64>> = out.iter().map(|l| l.luck_p).collect();
+    for (l, adjusted) in out.iter_mut().zip(holm(&p)) {
+        l.holm_p = adjusted;
+        l.beyond_chance = adjusted.is_some_and(|q| q <= FAMILY_LEVEL);
+    }
     out
 }
 
-/// Coverage of the projection's range of final wins.
-pub const PROJECTION_LEVEL: f64 = 0.8;
+/// Nominal level of the projection's range of final wins.
+pub const PROJECTION_LEVEL: f64 = RANGE_LEVEL;
 
 /// The order of every luck listing: most wins above expected first; ties by season, league, team.
 pub fn most_ahead_first(a: &TeamLine, b: &TeamLine) -> std::cmp::Ordering {
@@ -274,13 +260,5 @@ mod tests {
     fn z_of_an_even_team_at_expectation_is_zero() {
         assert_eq!(luck_z(81.0, 162.0, 0.5), Some(0.0));
         assert_eq!(luck_z(0.0, 10.0, 0.0), None);
-    }
-
-    #[test]
-    fn beta_binomial_with_one_trial_is_bernoulli() {
-        // BetaBinomial(1, a, b) is Bernoulli(a/(a+b)): with a = b the median is 0 (P(0) = 0.5 ≥ 0.5).
-        assert_eq!(beta_binomial_quantile(1, 3.0, 3.0, 0.5), 0);
-        assert_eq!(beta_binomial_quantile(1, 3.0, 3.0, 0.9), 1);
-        assert_eq!(beta_binomial_quantile(0, 3.0, 3.0, 0.9), 0);
     }
 }

@@ -46,8 +46,12 @@ pub struct Profile {
     /// Median games per team-season in the fitted data.
     pub season_games: u64,
     pub runs_per_win: f64,
-    /// Games of regression to .500 (k) estimated on the fitted data, when it could be.
+    /// Games of regression to .500 (k) for the actual record, estimated on the fitted data.
     pub regression_games: Option<f64>,
+    /// Games of regression for the run-based record, (1 − dispersion)·k (absent in profiles written
+    /// before it existed; [`Profile::run_based_regression_games`] derives it then).
+    #[serde(default)]
+    pub run_based_regression_games: Option<f64>,
 }
 
 fn named(names: &[&str], v: &[f64]) -> BTreeMap<String, f64> {
@@ -130,6 +134,7 @@ impl Profile {
         let mut lengths: Vec<u64> = ds.rows.iter().map(|r| r.games).collect();
         lengths.sort_unstable();
         let seasons = ds.seasons();
+        let dispersion = f.std_errors.as_ref().map(|s| s.dispersion);
         Ok(Profile {
             schema: SCHEMA.to_string(),
             runcal_version: env!("CARGO_PKG_VERSION").to_string(),
@@ -141,7 +146,7 @@ impl Profile {
             weight,
             std_errors: f.std_errors.as_ref().map(|s| named(names, &s.corrected)),
             std_errors_binomial: f.std_errors.as_ref().map(|s| named(names, &s.binomial)),
-            dispersion: f.std_errors.as_ref().map(|s| s.dispersion),
+            dispersion,
             ci: f.intervals.as_ref().map(|iv| {
                 names
                     .iter()
@@ -164,6 +169,9 @@ impl Profile {
             season_games: lengths.get(lengths.len() / 2).copied().unwrap_or(0),
             runs_per_win: f.runs_per_win,
             regression_games: crate::luck::regression_games(t),
+            run_based_regression_games: crate::luck::regression_games(t)
+                .zip(dispersion)
+                .and_then(|(k, d)| crate::luck::run_based_regression_games(k, d)),
         })
     }
 
@@ -234,6 +242,15 @@ impl Profile {
             .map(|n| self.params.get(*n).copied().unwrap_or(f64::NAN))
             .collect();
         Model::new(self.model, params)
+    }
+
+    /// The saved run-based constant, else (1 − dispersion)·k from the saved actual-record k.
+    pub fn run_based_regression_games(&self) -> Option<f64> {
+        self.run_based_regression_games.or_else(|| {
+            self.regression_games
+                .zip(self.dispersion)
+                .and_then(|(k, d)| crate::luck::run_based_regression_games(k, d))
+        })
     }
 
     /// Standard error of each parameter, in model order: the saved one, else the interval's

@@ -192,6 +192,11 @@ fn weekly_report_on_the_demo_game_log_ranks_with_z_p_one_run_and_projection() {
     ]));
     assert_eq!(v["schema"], "runcal.luck/1");
     assert_eq!(v["model"], "pythagorean");
+    // The profile's dispersion (Pearson χ²/df of its log-loss fit) sets the noise model.
+    assert_eq!(v["noise"]["model"], "quasi-binomial");
+    assert_eq!(v["noise"]["source"], "profile");
+    let phi = f(&v["noise"]["dispersion"]);
+    close(phi, 0.386_965_048_231_558_86, 1e-15, "dispersion");
     let teams = v["teams"].as_array().unwrap();
     assert_eq!(teams.len(), 14);
     let luck: Vec<f64> = teams.iter().map(|t| f(&t["luck_wins"])).collect();
@@ -207,7 +212,7 @@ fn weekly_report_on_the_demo_game_log_ranks_with_z_p_one_run_and_projection() {
         );
         close(
             f(&t["luck_z"]),
-            (w - n * p) / (n * p * (1.0 - p)).sqrt(),
+            (w - n * p) / (phi * n * p * (1.0 - p)).sqrt(),
             1e-9,
             "z",
         );
@@ -233,10 +238,11 @@ fn weekly_report_on_the_demo_game_log_ranks_with_z_p_one_run_and_projection() {
 fn large_luck_is_flagged_in_words() {
     let dir = tempfile::tempdir().unwrap();
     let file = dir.path().join("standings.csv");
-    // A club that wins 70 of 100 while scoring as many runs as it allows: z = (70 − 50)/5 = +4.
+    // A club that wins 70 of 100 while scoring as many runs as it allows: the binomial z
+    // (--dispersion 1) is (70 − 50)/5 = +4.
     std::fs::write(&file, "season,team,w,l,rs,ra\n2026,Lucky,70,30,400,400\n2026,Even,50,50,420,380\n2026,Plain,45,55,380,420\n").unwrap();
     let mut cmd = runcal();
-    cmd.args(["luck", "-q", "--model", "pythagorean"])
+    cmd.args(["luck", "-q", "--model", "pythagorean", "--dispersion", "1"])
         .arg(&file);
     let out = String::from_utf8(cmd.assert().success().get_output().stdout.clone()).unwrap();
     let lucky = out.lines().find(|l| l.contains("Lucky")).unwrap();

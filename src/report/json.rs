@@ -312,6 +312,7 @@ pub struct LuckJson<'a> {
     rows_used: usize,
     rows_rejected: usize,
     as_of: Option<String>,
+    noise: crate::luck::Noise,
     season_games: Option<u64>,
     regression_games: Option<Num>,
     projection_interval_level: f64,
@@ -332,8 +333,9 @@ pub fn luck(r: &super::LuckReport) -> LuckJson<'_> {
         rows_used: r.rows_used,
         rows_rejected: r.rows_rejected,
         as_of: r.as_of.map(|d| d.to_string()),
-        season_games: r.season_games,
-        regression_games: opt(r.regression_games),
+        noise: r.noise,
+        season_games: r.outlook.map(|o| o.season_games),
+        regression_games: opt(r.outlook.map(|o| o.regression_games)),
         projection_interval_level: crate::luck::PROJECTION_LEVEL,
         teams: r
             .teams

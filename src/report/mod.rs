@@ -115,8 +115,10 @@ pub struct LuckReport {
     pub rows_used: usize,
     pub rows_rejected: usize,
     pub as_of: Option<crate::data::gamelog::Date>,
-    pub season_games: Option<u64>,
-    pub regression_games: Option<f64>,
+    /// The luck z's noise model.
+    pub noise: crate::luck::Noise,
+    /// Season length, run-based regression constant and range level of the projections.
+    pub outlook: Option<crate::luck::Outlook>,
     pub teams: Vec<crate::luck::LuckLine>,
     /// Positions in `teams` that the chart labels (`--plot`); `None` without a chart.
     pub chart_labels: Option<Vec<usize>>,

@@ -423,7 +423,12 @@ pub fn luck(r: &super::LuckReport) -> String {
     }
     out.push_str(&t.to_string());
     out.push('\n');
-    if let (Some(g), Some(k)) = (r.season_games, r.regression_games) {
+    if let Some(crate::luck::Outlook {
+        season_games: g,
+        regression_games: k,
+        ..
+    }) = r.outlook
+    {
         out.push_str(&format!(
             "projection: {g}-game season; expected win% regressed toward .500 by {k:.1} games; 80% range from a beta-binomial\n"
         ));

@@ -10,9 +10,11 @@ use runcal::report::{LuckReport, ModelSource};
 
 /// Rank teams by wins above or below what their runs scored and allowed predict
 ///
-/// Applies a saved calibration (--profile) or, without one, fits on the given data. Reports each team's
-/// expected wins, luck in wins and as a binomial z with its two-sided p-value, the one-run record
-/// (game logs), and with a season length a rest-of-season projection with an 80% interval.
+/// Applies a saved calibration (--profile) or, without one, fits on the given data. Leads with each
+/// team's gap (wins over expected) and its z under the quasi-binomial noise model (dispersion from the
+/// calibration), a two-sided p-value and a Holm-adjusted flag over the teams shown; then the evidence
+/// (run differential per game, expected win%, one-run record from game logs); then, with a season
+/// length, the rest-of-season outlook with an 80% range and the mass it actually holds.
 /// Luck estimates are uncertain; this is descriptive statistics, not wagering advice.
 ///
 /// Example:
@@ -32,9 +34,13 @@ pub struct Args {
     /// Season length for the projection (default: the profile's).
     #[arg(long, value_name = "N")]
     pub season_games: Option<u64>,
-    /// Games of regression toward .500 for the projection (default: the profile's, else estimated).
+    /// Games of regression toward .500 of the run-based win% (default: the profile's, else
+    /// (1 − dispersion) × the actual-record constant estimated on these data).
     #[arg(long, value_name = "K")]
     pub regress_games: Option<f64>,
+    /// Dispersion φ of the noise model (default: the profile's, else measured on these data).
+    #[arg(long, value_name = "PHI")]
+    pub dispersion: Option<f64>,
     /// Show only the N teams most ahead of and the N most behind their scoring.
     #[arg(long, value_name = "N")]
     pub top: Option<usize>,
@@ -62,18 +68,16 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         None => args.input.clone(),
     };
     let (ds, table) = super::load(&input, args.as_of, &diag)?;
-    let (model, source) = match (&profile, &args.profile, args.exponent) {
-        (Some(p), Some(path), _) => (p.model(), ModelSource::Profile(path.clone())),
+    let (model, source, fitted) = match (&profile, &args.profile, args.exponent) {
+        (Some(p), Some(path), _) => (p.model(), ModelSource::Profile(path.clone()), None),
         (_, _, Some(x)) => {
             if !(x.is_finite() && x > 0.0) {
                 return Err(Error::Usage(format!(
                     "--exponent must be a positive number, got {x}"
                 )));
             }
-            (
-                runcal::model::Model::new(runcal::model::ModelKind::Pythagorean, vec![x]),
-                ModelSource::Given,
-            )
+            let m = runcal::model::Model::new(runcal::model::ModelKind::Pythagorean, vec![x]);
+            (m, ModelSource::Given, None)
         }
         _ => {
             let kinds = super::parse_models(&args.model)?;
@@ -87,9 +91,11 @@ pub fn run(args: &Args) -> Result<u8, Error> {
                 table.len(),
                 runcal::report::table::params(&f)
             ));
-            (f.model, ModelSource::Fitted)
+            let phi = f.std_errors.as_ref().map(|s| s.dispersion);
+            (f.model, ModelSource::Fitted, Some(phi))
         }
     };
+    let noise = noise_model(args, profile.as_ref(), fitted, &ds, &table, &model, &diag)?;
     let season_games = args
         .season_games
         .or(profile.as_ref().map(|p| p.season_games));
@@ -102,11 +108,19 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         }
         None => profile
             .as_ref()
-            .and_then(|p| p.regression_games)
-            .or_else(|| luck::regression_games(&table)),
+            .and_then(Profile::run_based_regression_games)
+            .or_else(|| {
+                let k = luck::regression_games(&table)?;
+                luck::run_based_regression_games(k, noise.dispersion).or(Some(k))
+            }),
     };
-    let regression = match (season_games, k) {
-        (Some(g), Some(k)) => Some((k, g)),
+    let outlook = match (season_games, k) {
+        (Some(season_games), Some(k)) => Some(luck::Outlook {
+            season_games,
+            regression_games: k,
+            dispersion: noise.dispersion,
+            level: luck::RANGE_LEVEL,
+        }),
         (Some(_), None) => {
             return Err(Error::Usage(
                 "cannot estimate the regression toward .500 from these data (win% spread no larger than chance); pass --regress-games K".to_string(),
@@ -114,18 +128,15 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         }
         (None, _) => None,
     };
-    let mut lines = luck::luck_lines(&ds.rows, &table, &model, regression);
-    if let Some(n) = args.top {
-        luck::keep_extremes(&mut lines, n);
-    }
+    let lines = luck::luck_lines(&ds.rows, &table, &model, &noise, outlook.as_ref(), args.top);
     let report = LuckReport {
         model,
         source,
         rows_used: ds.rows.len(),
         rows_rejected: ds.rejected.len(),
         as_of: args.as_of,
-        season_games,
-        regression_games: regression.map(|(k, _)| k),
+        noise,
+        outlook,
         chart_labels: args
             .plot
             .is_some()
@@ -135,4 +146,42 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     super::emit(&report, &args.output, files)?;
     Ok(0)
+}
+
+/// The dispersion behind the luck z: --dispersion, the profile's, the fit's, or measured on these
+/// data under the model applied (a profile without one is said so on stderr).
+fn noise_model(
+    args: &Args,
+    profile: Option<&Profile>,
+    fitted: Option<Option<f64>>,
+    ds: &runcal::data::Dataset,
+    table: &runcal::data::Table,
+    model: &runcal::model::Model,
+    diag: &runcal::output::Diagnostics,
+) -> Result<luck::Noise, Error> {
+    use luck::{Noise, NoiseSource};
+    if let Some(d) = args.dispersion {
+        if !(d.is_finite() && d > 0.0) {
+            return Err(Error::Usage(format!(
+                "--dispersion must be a positive number, got {d}"
+            )));
+        }
+        return Ok(Noise::new(Some(d), NoiseSource::Given));
+    }
+    if let Some(d) = profile.and_then(|p| p.dispersion) {
+        return Ok(Noise::new(Some(d), NoiseSource::Profile));
+    }
+    if let Some(Some(d)) = fitted {
+        return Ok(Noise::new(Some(d), NoiseSource::Data));
+    }
+    let measured = luck::pearson_dispersion(&luck::team_lines(&ds.rows, table, model), 0);
+    let noise = Noise::new(measured, NoiseSource::DataUnfitted);
+    if profile.is_some() {
+        diag.warn(&format!(
+            "the profile saves no dispersion (a log-loss fit saves one); luck z uses {} noise {}",
+            noise.model,
+            noise.source.describe()
+        ));
+    }
+    Ok(noise)
 }
