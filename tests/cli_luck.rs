@@ -355,3 +355,57 @@ fn luck_plot_is_an_svg_with_labelled_extremes() {
         "extreme teams are labelled with season and luck"
     );
 }
+
+#[test]
+fn save_profile_keeps_the_model_named_first_and_says_which() {
+    let dir = tempfile::tempdir().unwrap();
+    for (models, saved) in [
+        ("pythagorean,pythagenport", "pythagorean"),
+        ("pythagenport,pythagorean", "pythagenport"),
+    ] {
+        let path = dir.path().join("p.json");
+        let out = runcal()
+            .args([
+                "fit",
+                "demo-data/meridian-league.csv",
+                "--top",
+                "0",
+                "--model",
+                models,
+            ])
+            .arg("--save-profile")
+            .arg(&path)
+            .assert()
+            .success()
+            .get_output()
+            .clone();
+        let p: serde_json::Value =
+            serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+        // In-sample, Pythagenport is ahead on the demo by 2.5e-6 of log-loss; the first named wins.
+        assert_eq!(p["model"], saved, "--model {models}");
+        let note = String::from_utf8(out.stderr).unwrap();
+        assert!(note.contains(&format!("saved {saved}:")), "{note}");
+    }
+}
+
+#[test]
+fn grouped_over_and_under_lists_name_no_single_group_fit() {
+    let out = runcal()
+        .args([
+            "fit",
+            "demo-data/meridian-league.csv",
+            "--by",
+            "season",
+            "--top",
+            "2",
+            "-q",
+        ])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let out = String::from_utf8(out).unwrap();
+    assert!(out.contains("Most wins above their scoring (each group's own pythagorean fit)"));
+    assert!(!out.contains("(pythagorean, exponent"), "{out}");
+}
