@@ -94,7 +94,8 @@ pub fn regression_games(t: &Table) -> Option<f64> {
 }
 
 /// How far a team's record runs from its scoring, in the noise model's terms.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
 pub enum Signal {
     /// z ≥ [`NOTABLE_Z`].
     Ahead,
@@ -115,6 +116,8 @@ pub struct LuckLine {
     pub holm_p: Option<f64>,
     /// The Holm-adjusted p is at most [`FAMILY_LEVEL`]: the gap stands out even among all teams shown.
     pub beyond_chance: bool,
+    /// (RS − RA)/games.
+    pub run_diff_per_game: f64,
     pub one_run: Option<(u64, u64)>,
     pub projection: Option<Projection>,
 }
@@ -124,6 +127,25 @@ pub const NOTABLE_Z: f64 = 2.0;
 
 /// The name of the multiplicity adjustment, as the outputs print it.
 pub const MULTIPLICITY: &str = "holm";
+
+/// The family the multiplicity-aware flag adjusts over: the teams shown.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Family {
+    pub method: &'static str,
+    pub family_level: f64,
+    /// Teams with a p-value among those shown.
+    pub teams: usize,
+}
+
+impl Family {
+    pub fn over(lines: &[LuckLine]) -> Family {
+        Family {
+            method: MULTIPLICITY,
+            family_level: FAMILY_LEVEL,
+            teams: lines.iter().filter(|l| l.luck_p.is_some()).count(),
+        }
+    }
+}
 
 /// Build the weekly report's lines, sorted by luck in wins (most ahead of their scoring first; ties
 /// broken by season, league, team). With `top`, only the `top` most ahead and most behind are kept;
@@ -160,6 +182,8 @@ pub fn luck_lines(
                 },
                 holm_p: None,
                 beyond_chance: false,
+                run_diff_per_game: (rows[i].runs_scored - rows[i].runs_allowed)
+                    / rows[i].games.max(1) as f64,
                 one_run: rows[i].one_run,
                 projection,
                 line,

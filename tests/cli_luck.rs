@@ -47,40 +47,84 @@ fn game_logs_aggregate_into_hand_computed_standings() {
     // (one-run loss): 1-2-1, RS 5+3+1+7 = 16, RA 4+3+6+8 = 21.
     let h = team("Harbor");
     assert_eq!(
-        (h["wins"].as_u64(), h["losses"].as_u64(), h["ties"].as_u64()),
+        (
+            h["evidence"]["wins"].as_u64(),
+            h["evidence"]["losses"].as_u64(),
+            h["evidence"]["ties"].as_u64()
+        ),
         (Some(1), Some(2), Some(1))
     );
-    assert_eq!((f(&h["runs_scored"]), f(&h["runs_allowed"])), (16.0, 21.0));
     assert_eq!(
-        (h["one_run_wins"].as_u64(), h["one_run_losses"].as_u64()),
+        (
+            f(&h["evidence"]["runs_scored"]),
+            f(&h["evidence"]["runs_allowed"])
+        ),
+        (16.0, 21.0)
+    );
+    assert_eq!(
+        (
+            h["evidence"]["one_run_wins"].as_u64(),
+            h["evidence"]["one_run_losses"].as_u64()
+        ),
         (Some(1), Some(1))
     );
-    assert_eq!(h["games"], 4);
+    assert_eq!(h["evidence"]["games"], 4);
     // Mill: lost 4-5 at Harbor (one run), lost 2-7 to Quarry, beat Harbor 8-7 (one run): 1-2,
     // RS 4+2+8 = 14, RA 5+7+7 = 19.
     let m = team("Mill");
     assert_eq!(
-        (m["wins"].as_u64(), m["losses"].as_u64(), m["ties"].as_u64()),
+        (
+            m["evidence"]["wins"].as_u64(),
+            m["evidence"]["losses"].as_u64(),
+            m["evidence"]["ties"].as_u64()
+        ),
         (Some(1), Some(2), Some(0))
     );
-    assert_eq!((f(&m["runs_scored"]), f(&m["runs_allowed"])), (14.0, 19.0));
     assert_eq!(
-        (m["one_run_wins"].as_u64(), m["one_run_losses"].as_u64()),
+        (
+            f(&m["evidence"]["runs_scored"]),
+            f(&m["evidence"]["runs_allowed"])
+        ),
+        (14.0, 19.0)
+    );
+    assert_eq!(
+        (
+            m["evidence"]["one_run_wins"].as_u64(),
+            m["evidence"]["one_run_losses"].as_u64()
+        ),
         (Some(1), Some(1))
     );
     // Quarry: won 7-2 at Mill, tied 3-3, won 6-1 at Harbor: 2-0-1, RS 16, RA 6, no one-run games.
     let q = team("Quarry");
     assert_eq!(
-        (q["wins"].as_u64(), q["losses"].as_u64(), q["ties"].as_u64()),
+        (
+            q["evidence"]["wins"].as_u64(),
+            q["evidence"]["losses"].as_u64(),
+            q["evidence"]["ties"].as_u64()
+        ),
         (Some(2), Some(0), Some(1))
     );
-    assert_eq!((f(&q["runs_scored"]), f(&q["runs_allowed"])), (16.0, 6.0));
     assert_eq!(
-        (q["one_run_wins"].as_u64(), q["one_run_losses"].as_u64()),
+        (
+            f(&q["evidence"]["runs_scored"]),
+            f(&q["evidence"]["runs_allowed"])
+        ),
+        (16.0, 6.0)
+    );
+    assert_eq!(
+        (
+            q["evidence"]["one_run_wins"].as_u64(),
+            q["evidence"]["one_run_losses"].as_u64()
+        ),
         (Some(0), Some(0))
     );
     // A tie counts half: Quarry's win% is (2 + 0.5)/3.
-    close(f(&q["win_pct"]), 2.5 / 3.0, 1e-12, "win% with a tie");
+    close(
+        f(&q["evidence"]["win_pct"]),
+        2.5 / 3.0,
+        1e-12,
+        "win% with a tie",
+    );
 }
 
 #[test]
@@ -108,10 +152,10 @@ fn as_of_cuts_the_season_at_a_date() {
     let record = |name: &str| {
         let t = teams.iter().find(|t| t["team"] == name).unwrap();
         (
-            t["wins"].as_u64().unwrap(),
-            t["losses"].as_u64().unwrap(),
-            f(&t["runs_scored"]),
-            f(&t["runs_allowed"]),
+            t["evidence"]["wins"].as_u64().unwrap(),
+            t["evidence"]["losses"].as_u64().unwrap(),
+            f(&t["evidence"]["runs_scored"]),
+            f(&t["evidence"]["runs_allowed"]),
         )
     };
     assert_eq!(teams.len(), 3);
@@ -173,7 +217,10 @@ fn profile_round_trip_gives_the_same_expected_wins_as_fitting_in_process() {
     assert_eq!(a.len(), 350);
     for (x, y) in a.iter().zip(b) {
         assert_eq!(x["team"], y["team"]);
-        assert_eq!(x["expected_wins"], y["expected_wins"]);
+        assert_eq!(
+            x["evidence"]["expected_wins"],
+            y["evidence"]["expected_wins"]
+        );
     }
 }
 
@@ -190,7 +237,13 @@ fn weekly_report_on_the_demo_game_log_ranks_with_z_p_one_run_and_projection() {
         "--format",
         "json",
     ]));
-    assert_eq!(v["schema"], "runcal.luck/1");
+    assert_eq!(v["schema"], "runcal.luck/2");
+    assert!(
+        v["caution"]
+            .as_str()
+            .unwrap()
+            .contains("not wagering or financial advice")
+    );
     assert_eq!(v["model"], "pythagorean");
     // The profile's dispersion (Pearson χ²/df of its log-loss fit) sets the noise model.
     assert_eq!(v["noise"]["model"], "quasi-binomial");
@@ -199,39 +252,52 @@ fn weekly_report_on_the_demo_game_log_ranks_with_z_p_one_run_and_projection() {
     close(phi, 0.386_965_048_231_558_86, 1e-15, "dispersion");
     let teams = v["teams"].as_array().unwrap();
     assert_eq!(teams.len(), 14);
-    let luck: Vec<f64> = teams.iter().map(|t| f(&t["luck_wins"])).collect();
+    let luck: Vec<f64> = teams.iter().map(|t| f(&t["gap"]["luck_wins"])).collect();
     assert!(
         luck.windows(2).all(|w| w[0] >= w[1]),
         "sorted by luck, most ahead first"
     );
     for t in teams {
         let (w, n, p) = (
-            f(&t["wins"]) + f(&t["ties"]) / 2.0,
-            f(&t["wins"]) + f(&t["losses"]) + f(&t["ties"]),
-            f(&t["expected_win_pct"]),
+            f(&t["evidence"]["wins"]) + f(&t["evidence"]["ties"]) / 2.0,
+            f(&t["evidence"]["wins"]) + f(&t["evidence"]["losses"]) + f(&t["evidence"]["ties"]),
+            f(&t["evidence"]["expected_win_pct"]),
         );
         close(
-            f(&t["luck_z"]),
+            f(&t["gap"]["luck_z"]),
             (w - n * p) / (phi * n * p * (1.0 - p)).sqrt(),
             1e-9,
             "z",
         );
         close(
-            f(&t["luck_p"]),
-            runcal::luck::two_sided_p(f(&t["luck_z"])),
+            f(&t["gap"]["luck_p"]),
+            runcal::luck::two_sided_p(f(&t["gap"]["luck_z"])),
             1e-12,
             "p",
         );
-        assert!(t["one_run_wins"].is_u64() && t["one_run_losses"].is_u64());
-        let interval = t["projected_interval"].as_array().unwrap();
-        let proj = f(&t["projected_wins"]);
+        assert!(t["evidence"]["one_run_wins"].is_u64() && t["evidence"]["one_run_losses"].is_u64());
+        // Integer endpoints chosen for the mass nearest the nominal 80% (it was 82–85% with the
+        // 10%/90% percent points).
+        assert_eq!(f(&t["outlook"]["range_level"]), 0.8);
+        let mass = f(&t["outlook"]["range_mass"]);
+        assert!((mass - 0.8).abs() < 0.03, "mass {mass}");
+        let interval = t["outlook"]["range"].as_array().unwrap();
+        let proj = f(&t["outlook"]["projected_wins"]);
         assert!(f(&interval[0]) <= proj && proj <= f(&interval[1]));
         assert_eq!(
-            t["remaining_games"].as_u64().unwrap() + t["games"].as_u64().unwrap(),
+            t["outlook"]["remaining_games"].as_u64().unwrap()
+                + t["evidence"]["games"].as_u64().unwrap(),
             140
         );
     }
-    assert_eq!(v["season_games"], 140);
+    assert_eq!(v["outlook"]["season_games"], 140);
+    // The demo's top club is 2.5 residual SD ahead: flagged by |z| ≥ 2, but not beyond chance
+    // after Holm's adjustment over the 14 clubs shown.
+    let top = &teams[0]["gap"];
+    assert!(f(&top["luck_z"]) > 2.5 && top["signal"] == "ahead", "{top}");
+    assert_eq!(top["beyond_chance"], false);
+    assert_eq!(v["multiplicity"]["method"], "holm");
+    assert_eq!(v["multiplicity"]["teams"], 14);
 }
 
 #[test]
@@ -408,4 +474,68 @@ fn grouped_over_and_under_lists_name_no_single_group_fit() {
     let out = String::from_utf8(out).unwrap();
     assert!(out.contains("Most wins above their scoring (each group's own pythagorean fit)"));
     assert!(!out.contains("(pythagorean, exponent"), "{out}");
+}
+
+#[test]
+fn older_profiles_load_and_say_which_noise_model_they_fall_back_to() {
+    let dir = tempfile::tempdir().unwrap();
+    let text =
+        std::fs::read_to_string(common::repo().join("demo-data/meridian-profile.json")).unwrap();
+    let mut p: Value = serde_json::from_str(&text).unwrap();
+    let map = p.as_object_mut().unwrap();
+    // A profile written before the run-based constant existed: (1 − φ)·k is derived on load.
+    map.remove("run_based_regression_games");
+    let old = dir.path().join("old.json");
+    std::fs::write(&old, serde_json::to_string(&p).unwrap()).unwrap();
+    let args = [
+        "luck",
+        "demo-data/meridian-2026-games.csv",
+        "--games",
+        "--as-of",
+        "2026-07-15",
+        "--format",
+        "json",
+        "--profile",
+    ];
+    let v = json(runcal().args(args).arg(&old));
+    let (k, phi) = (88.117_689_493_481_83, 0.386_965_048_231_558_86);
+    close(
+        f(&v["outlook"]["regression_games"]),
+        (1.0 - phi) * k,
+        1e-9,
+        "derived constant",
+    );
+    // A profile without a dispersion (an MAE fit saves none): the dispersion of these data under
+    // the profile's model, said so on stderr.
+    let map = p.as_object_mut().unwrap();
+    map.insert("dispersion".into(), Value::Null);
+    std::fs::write(&old, serde_json::to_string(&p).unwrap()).unwrap();
+    let out = runcal()
+        .args(args)
+        .arg(&old)
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["noise"]["source"], "data-unfitted");
+    assert_eq!(v["noise"]["model"], "quasi-binomial");
+    let stderr = String::from_utf8(out.stderr).unwrap();
+    assert!(
+        stderr.contains("the profile saves no dispersion"),
+        "{stderr}"
+    );
+}
+
+#[test]
+fn bad_dispersions_are_refused() {
+    for bad in ["0", "-1", "nan", "inf"] {
+        runcal()
+            .args(["luck", "demo-data/meridian-league.csv"])
+            .arg(format!("--dispersion={bad}"))
+            .assert()
+            .code(2)
+            .stderr(predicates::str::contains("--dispersion"))
+            .stderr(predicates::str::contains("expected a positive number"));
+    }
 }

@@ -86,46 +86,6 @@ pub fn fit(r: &FitReport) -> Result<Vec<u8>, Error> {
     finish(w)
 }
 
-pub fn luck(r: &super::LuckReport) -> Result<Vec<u8>, Error> {
-    let mut w = csv::Writer::from_writer(Vec::new());
-    let extra = [
-        "expected_win_pct",
-        "expected_wins",
-        "luck_wins",
-        "luck_z",
-        "luck_p",
-        "one_run_wins",
-        "one_run_losses",
-        "remaining_games",
-        "projected_wins",
-        "projected_low_80",
-        "projected_high_80",
-    ];
-    w.write_record(TEAM_HEADER.iter().chain(&extra))
-        .map_err(write_err)?;
-    let count = |v: Option<u64>| v.map(|x| x.to_string()).unwrap_or_default();
-    for l in &r.teams {
-        let t = &l.line;
-        let p = l.projection.as_ref();
-        let mut row = team_cells(t);
-        row.extend([
-            cell(Some(t.expected_win_pct)),
-            cell(Some(t.expected_wins)),
-            cell(Some(t.luck_wins)),
-            cell(l.luck_z),
-            cell(l.luck_p),
-            count(l.one_run.map(|o| o.0)),
-            count(l.one_run.map(|o| o.1)),
-            count(p.map(|p| p.remaining)),
-            cell(p.map(|p| p.projected_wins)),
-            cell(p.map(|p| p.interval.0)),
-            cell(p.map(|p| p.interval.1)),
-        ]);
-        w.write_record(&row).map_err(write_err)?;
-    }
-    finish(w)
-}
-
 pub fn backtest(r: &super::BacktestReport) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record(["rank", "model", "fitted", "mae", "rmse", "logloss", "folds"])

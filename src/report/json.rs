@@ -73,16 +73,12 @@ impl From<(f64, f64)> for Cell {
     }
 }
 
-fn named<'a, T>(names: &'a [&'a str], values: &'a [T]) -> Named<'a, T> {
+pub fn named<'a, T>(names: &'a [&'a str], values: &'a [T]) -> Named<'a, T> {
     Named { names, values }
 }
 
 fn params_of(m: &Model) -> Named<'_, f64> {
     named(m.kind.param_names(), &m.params)
-}
-
-fn opt(v: Option<f64>) -> Option<Num> {
-    v.map(Num)
 }
 
 /// Render a serialisable schema as pretty JSON with a closing newline.
@@ -278,83 +274,6 @@ impl<'a> From<&'a TeamLine> for TeamJson<'a> {
             expected_wins: Num(t.expected_wins),
             luck_wins: Num(t.luck_wins),
         }
-    }
-}
-
-#[derive(Serialize)]
-struct LuckTeamJson<'a> {
-    #[serde(flatten)]
-    team: TeamJson<'a>,
-    luck_z: Option<Num>,
-    luck_p: Option<Num>,
-    one_run_wins: Option<u64>,
-    one_run_losses: Option<u64>,
-    remaining_games: Option<u64>,
-    regressed_win_pct: Option<Num>,
-    projected_wins: Option<Num>,
-    projected_interval: Option<Pair>,
-}
-
-#[derive(Serialize)]
-#[serde(untagged)]
-enum SourceJson<'a> {
-    Profile { profile: &'a str },
-    Named(&'static str),
-}
-
-/// `runcal.luck/1`.
-#[derive(Serialize)]
-pub struct LuckJson<'a> {
-    schema: &'static str,
-    model: &'static str,
-    params: Named<'a, f64>,
-    source: SourceJson<'a>,
-    rows_used: usize,
-    rows_rejected: usize,
-    as_of: Option<String>,
-    noise: crate::luck::Noise,
-    season_games: Option<u64>,
-    regression_games: Option<Num>,
-    projection_interval_level: f64,
-    teams: Vec<LuckTeamJson<'a>>,
-}
-
-pub fn luck(r: &super::LuckReport) -> LuckJson<'_> {
-    use super::ModelSource;
-    LuckJson {
-        schema: "runcal.luck/1",
-        model: r.model.kind.name(),
-        params: params_of(&r.model),
-        source: match &r.source {
-            ModelSource::Profile(p) => SourceJson::Profile { profile: p },
-            ModelSource::Fitted => SourceJson::Named("fitted"),
-            ModelSource::Given => SourceJson::Named("given"),
-        },
-        rows_used: r.rows_used,
-        rows_rejected: r.rows_rejected,
-        as_of: r.as_of.map(|d| d.to_string()),
-        noise: r.noise,
-        season_games: r.outlook.map(|o| o.season_games),
-        regression_games: opt(r.outlook.map(|o| o.regression_games)),
-        projection_interval_level: crate::luck::PROJECTION_LEVEL,
-        teams: r
-            .teams
-            .iter()
-            .map(|l| {
-                let p = l.projection.as_ref();
-                LuckTeamJson {
-                    team: (&l.line).into(),
-                    luck_z: opt(l.luck_z),
-                    luck_p: opt(l.luck_p),
-                    one_run_wins: l.one_run.map(|(w, _)| w),
-                    one_run_losses: l.one_run.map(|(_, lo)| lo),
-                    remaining_games: p.map(|p| p.remaining),
-                    regressed_win_pct: p.map(|p| Num(p.regressed_win_pct)),
-                    projected_wins: p.map(|p| Num(p.projected_wins)),
-                    projected_interval: p.map(|p| Pair(p.interval.0, p.interval.1)),
-                }
-            })
-            .collect(),
     }
 }
 

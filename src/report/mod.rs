@@ -3,6 +3,7 @@
 
 pub mod csv;
 pub mod json;
+pub mod luck;
 pub mod svg;
 pub mod table;
 
@@ -126,13 +127,13 @@ pub struct LuckReport {
 
 impl Report for LuckReport {
     fn table(&self) -> String {
-        table::luck(self)
+        luck::table(self)
     }
     fn json(&self) -> Result<Vec<u8>, Error> {
-        json::to_bytes(&json::luck(self))
+        luck::json(self)
     }
     fn csv(&self) -> Result<Vec<u8>, Error> {
-        csv::luck(self)
+        luck::csv(self)
     }
     fn svg(&self) -> Option<Result<Vec<u8>, Error>> {
         self.chart_labels

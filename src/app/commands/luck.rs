@@ -1,6 +1,6 @@
 //! `runcal luck`: the weekly report of teams ahead of or behind their scoring, with projections.
 
-use crate::app::args::{InputArgs, OutputArgs};
+use crate::app::args::{InputArgs, OutputArgs, positive};
 use runcal::data::gamelog::Date;
 use runcal::error::Error;
 use runcal::fit::{self, Loss};
@@ -39,7 +39,7 @@ pub struct Args {
     #[arg(long, value_name = "K")]
     pub regress_games: Option<f64>,
     /// Dispersion φ of the noise model (default: the profile's, else measured on these data).
-    #[arg(long, value_name = "PHI")]
+    #[arg(long, value_name = "PHI", value_parser = positive)]
     pub dispersion: Option<f64>,
     /// Show only the N teams most ahead of and the N most behind their scoring.
     #[arg(long, value_name = "N")]
@@ -161,11 +161,6 @@ fn noise_model(
 ) -> Result<luck::Noise, Error> {
     use luck::{Noise, NoiseSource};
     if let Some(d) = args.dispersion {
-        if !(d.is_finite() && d > 0.0) {
-            return Err(Error::Usage(format!(
-                "--dispersion must be a positive number, got {d}"
-            )));
-        }
         return Ok(Noise::new(Some(d), NoiseSource::Given));
     }
     if let Some(d) = profile.and_then(|p| p.dispersion) {
