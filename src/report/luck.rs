@@ -136,12 +136,15 @@ fn footnotes(r: &LuckReport) -> String {
     let family = Family::over(&r.teams);
     let mut out = format!(
         "gap in SD: (W − n·p̂)/√(φ·n·p̂(1 − p̂)), {} noise with dispersion φ = {:.3} ({}); \"well ahead/behind\" at |z| ≥ {NOTABLE_Z}; \
-\"beyond chance\": Holm-adjusted p ≤ {} over the {} teams shown\n",
+\"beyond chance\": Holm-adjusted p ≤ {} over the {} shown with a z\n",
         n.model,
         n.dispersion,
         n.source.describe(),
         family.family_level,
-        family.teams
+        match family.teams {
+            1 => "1 team".to_string(),
+            k => format!("{k} teams"),
+        }
     );
     if let Some(o) = r.outlook {
         out.push_str(&format!(

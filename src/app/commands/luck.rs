@@ -169,8 +169,13 @@ fn noise_model(
     if let Some(Some(d)) = fitted {
         return Ok(Noise::new(Some(d), NoiseSource::Data));
     }
-    let measured = luck::pearson_dispersion(&luck::team_lines(&ds.rows, table, model), 0);
-    let noise = Noise::new(measured, NoiseSource::DataUnfitted);
+    // Fitted here without standard errors: its parameters cost degrees of freedom.
+    let (fitted_params, source) = match fitted {
+        Some(_) => (model.params.len(), NoiseSource::Data),
+        None => (0, NoiseSource::DataUnfitted),
+    };
+    let lines = luck::team_lines(&ds.rows, table, model);
+    let noise = Noise::new(luck::pearson_dispersion(&lines, fitted_params), source);
     if profile.is_some() {
         diag.warn(&format!(
             "the profile saves no dispersion (a log-loss fit saves one); luck z uses {} noise {}",
