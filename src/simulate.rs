@@ -61,6 +61,22 @@ pub struct Design {
 }
 
 impl Design {
+    /// A league like the demo's (Weibull shape 1.83, 4.5 runs per team per game, talent sd 0.08),
+    /// seasons numbered from 1.
+    pub fn like_demo(teams: usize, seasons: usize, games: usize, seed: u64) -> Design {
+        Design {
+            teams,
+            seasons,
+            games,
+            seed,
+            shape: 1.83,
+            runs_per_game: 4.5,
+            talent_sd: 0.08,
+            first_season: 1,
+            league: "Simulated".to_string(),
+        }
+    }
+
     pub fn validate(&self) -> Result<(), String> {
         if self.teams < 2 || !self.teams.is_multiple_of(2) {
             return Err(format!(
@@ -218,6 +234,31 @@ pub struct SeasonRow {
 }
 
 impl SeasonRow {
+    /// A team-season before its first game.
+    pub fn empty(season: i32, team: usize) -> SeasonRow {
+        SeasonRow {
+            season,
+            team,
+            games: 0,
+            wins: 0,
+            losses: 0,
+            runs_scored: 0,
+            runs_allowed: 0,
+        }
+    }
+
+    /// Count one game (simulated games never tie).
+    pub fn add_game(&mut self, scored: u64, allowed: u64) {
+        self.games += 1;
+        self.runs_scored += scored;
+        self.runs_allowed += allowed;
+        if scored > allowed {
+            self.wins += 1;
+        } else {
+            self.losses += 1;
+        }
+    }
+
     /// The row as a loaded team-season (club names from the fictional league).
     pub fn team_season(&self, league: Option<&str>) -> crate::data::TeamSeason {
         crate::data::TeamSeason {
@@ -246,15 +287,7 @@ pub fn seasons(design: &Design) -> Result<Vec<SeasonRow>, String> {
     let mut rows: Vec<SeasonRow> = Vec::with_capacity(n * design.seasons);
     for s in 0..design.seasons {
         for team in 0..n {
-            rows.push(SeasonRow {
-                season: design.first_season + s as i32,
-                team,
-                games: 0,
-                wins: 0,
-                losses: 0,
-                runs_scored: 0,
-                runs_allowed: 0,
-            });
+            rows.push(SeasonRow::empty(design.first_season + s as i32, team));
         }
     }
     games(design, |g| {
@@ -263,15 +296,7 @@ pub fn seasons(design: &Design) -> Result<Vec<SeasonRow>, String> {
             (g.home, g.home_score, g.away_score),
             (g.away, g.away_score, g.home_score),
         ] {
-            let r = &mut rows[base + team];
-            r.games += 1;
-            r.runs_scored += scored;
-            r.runs_allowed += allowed;
-            if scored > allowed {
-                r.wins += 1;
-            } else {
-                r.losses += 1;
-            }
+            rows[base + team].add_game(scored, allowed);
         }
     })?;
     Ok(rows)

@@ -14,34 +14,14 @@ use runcal::model::{Model, ModelKind};
 use runcal::simulate::{self, Design, SeasonRow};
 
 fn design(teams: usize, seasons: usize, games: usize, seed: u64) -> Design {
-    Design {
-        teams,
-        seasons,
-        games,
-        shape: 1.83,
-        runs_per_game: 4.5,
-        talent_sd: 0.08,
-        first_season: 1,
-        league: "Sim".into(),
-        seed,
-    }
+    Design::like_demo(teams, seasons, games, seed)
 }
 
 /// Each team-season of a simulated league as of every cut (games played), and at the season's end.
 fn cut_seasons(d: &Design, cuts: &[u64]) -> Vec<Vec<SeasonRow>> {
     let n = d.teams;
-    let blank = |season: i32, team: usize| SeasonRow {
-        season,
-        team,
-        games: 0,
-        wins: 0,
-        losses: 0,
-        runs_scored: 0,
-        runs_allowed: 0,
-    };
     let rows: Vec<SeasonRow> = (0..d.seasons)
-        .flat_map(|s| (0..n).map(move |t| (s, t)))
-        .map(|(s, t)| blank(d.first_season + s as i32, t))
+        .flat_map(|s| (0..n).map(move |t| SeasonRow::empty(d.first_season + s as i32, t)))
         .collect();
     let mut at: Vec<Vec<SeasonRow>> = vec![rows; cuts.len() + 1];
     simulate::games(d, |g| {
@@ -52,17 +32,8 @@ fn cut_seasons(d: &Design, cuts: &[u64]) -> Vec<Vec<SeasonRow>> {
         ] {
             let played = at[cuts.len()][base + team].games;
             for (c, rows) in at.iter_mut().enumerate() {
-                if c < cuts.len() && played >= cuts[c] {
-                    continue;
-                }
-                let r = &mut rows[base + team];
-                r.games += 1;
-                r.runs_scored += scored;
-                r.runs_allowed += allowed;
-                if scored > allowed {
-                    r.wins += 1;
-                } else {
-                    r.losses += 1;
+                if c == cuts.len() || played < cuts[c] {
+                    rows[base + team].add_game(scored, allowed);
                 }
             }
         }

@@ -133,10 +133,10 @@ def main():
         "dispersion": phi, "exponent": x,
         "luck_2006": teams, "projection": example, "ranges": cases,
     }
+    text = json.dumps(out, indent=2) + "\n"
     with open(OUT, "w", encoding="utf-8") as f:
-        json.dump(out, f, indent=2)
-        f.write("\n")
-    print(f"wrote {os.path.normpath(OUT)}")
+        f.write(text)
+    print("wrote", os.path.normpath(OUT))
 
 
 if __name__ == "__main__":
