@@ -135,6 +135,7 @@ impl Profile {
         lengths.sort_unstable();
         let seasons = ds.seasons();
         let dispersion = f.std_errors.as_ref().map(|s| s.dispersion);
+        let k = crate::luck::regression_games(t);
         Ok(Profile {
             schema: SCHEMA.to_string(),
             runcal_version: env!("CARGO_PKG_VERSION").to_string(),
@@ -168,8 +169,8 @@ impl Profile {
             average_rpg: t.average_rpg(),
             season_games: lengths.get(lengths.len() / 2).copied().unwrap_or(0),
             runs_per_win: f.runs_per_win,
-            regression_games: crate::luck::regression_games(t),
-            run_based_regression_games: crate::luck::regression_games(t)
+            regression_games: k,
+            run_based_regression_games: k
                 .zip(dispersion)
                 .and_then(|(k, d)| crate::luck::run_based_regression_games(k, d)),
         })

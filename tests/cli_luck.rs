@@ -539,3 +539,43 @@ fn bad_dispersions_are_refused() {
             .stderr(predicates::str::contains("expected a positive number"));
     }
 }
+
+#[test]
+fn without_a_profile_the_fit_on_the_data_sets_the_noise() {
+    let v = json(runcal().args([
+        "luck",
+        "demo-data/meridian-league.csv",
+        "--format",
+        "json",
+        "-q",
+    ]));
+    // The same rows as the demo profile's fit: the same Pearson χ²/df.
+    assert_eq!(v["noise"]["source"], "data");
+    close(
+        f(&v["noise"]["dispersion"]),
+        0.386_965_048_231_558_86,
+        1e-12,
+        "dispersion",
+    );
+    let given = json(runcal().args([
+        "luck",
+        "demo-data/meridian-league.csv",
+        "--dispersion",
+        "1",
+        "--format",
+        "json",
+        "-q",
+    ]));
+    assert_eq!(given["noise"]["source"], "given");
+    // φ = 1 is the binomial z: √φ times smaller than the quasi-binomial one.
+    let (q, b) = (
+        &v["teams"][0]["gap"]["luck_z"],
+        &given["teams"][0]["gap"]["luck_z"],
+    );
+    close(
+        f(b),
+        f(q) * 0.386_965_048_231_558_86_f64.sqrt(),
+        1e-9,
+        "z under φ = 1",
+    );
+}

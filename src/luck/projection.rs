@@ -180,6 +180,22 @@ mod tests {
     }
 
     #[test]
+    fn ranges_miss_their_level_by_less_than_one_step_and_stay_central() {
+        for n in [3u64, 10, 34, 56, 100, 160] {
+            for (a, b) in [(2.0, 2.0), (40.0, 30.0), (150.0, 90.0), (5.0, 60.0)] {
+                let pmf = beta_binomial_pmf(n, a, b);
+                let step = pmf.iter().copied().fold(0.0, f64::max);
+                let (lo, hi, mass) = central_range(n, a, b, 0.8);
+                assert!((mass - 0.8).abs() <= step, "n {n} a {a} b {b}: {mass}");
+                let below: f64 = pmf[..lo as usize].iter().sum();
+                let above: f64 = pmf[hi as usize + 1..].iter().sum();
+                // Tails balanced to within two steps of the distribution.
+                assert!((below - above).abs() <= 2.0 * step, "tails {below} {above}");
+            }
+        }
+    }
+
+    #[test]
     fn the_run_based_constant_is_the_actual_one_times_one_minus_dispersion() {
         assert_eq!(run_based_regression_games(88.0, 0.375), Some(55.0));
         assert_eq!(run_based_regression_games(88.0, 1.2), None);
