@@ -1,6 +1,41 @@
 //! Typed errors of the library. The binary maps them to exit codes and adds context.
 
+use std::borrow::Cow;
 use std::fmt;
+
+/// Escape the characters a terminal would act on: C0 and C1 controls (NUL, ESC, BEL, CR, LF, DEL
+/// and U+0080–U+009F, so no escape or OSC sequence reaches it raw) and the bidirectional overrides
+/// and isolates that can reorder a line. `\x1b` for C0 and DEL, `\u{…}` for the rest; everything
+/// else is unchanged. Every message runcal prints passes through this.
+pub fn escape_controls(s: &str) -> Cow<'_, str> {
+    let hostile = |c: char| {
+        c.is_control()
+            || matches!(c, '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+    };
+    if !s.chars().any(hostile) {
+        return Cow::Borrowed(s);
+    }
+    let mut out = String::with_capacity(s.len() + 8);
+    for c in s.chars() {
+        if !hostile(c) {
+            out.push(c);
+        } else if (c as u32) < 0x80 {
+            out.push_str(&format!("\\x{:02x}", c as u32));
+        } else {
+            out.push_str(&format!("\\u{{{:x}}}", c as u32));
+        }
+    }
+    Cow::Owned(out)
+}
+
+/// `escape_controls` as a Display adapter for error messages.
+struct Escaped<T>(T);
+
+impl<T: fmt::Display> fmt::Display for Escaped<T> {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&escape_controls(&self.0.to_string()))
+    }
+}
 
 /// Where in an input a problem was found.
 #[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
@@ -14,12 +49,12 @@ pub struct Location {
 
 impl fmt::Display for Location {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "{}", self.file)?;
+        write!(f, "{}", escape_controls(&self.file))?;
         if let Some(line) = self.line {
             write!(f, ":{line}")?;
         }
         if let Some(column) = &self.column {
-            write!(f, ": column '{column}'")?;
+            write!(f, ": column '{}'", escape_controls(column))?;
         }
         Ok(())
     }
@@ -35,7 +70,7 @@ pub struct Rejection {
 
 impl fmt::Display for Rejection {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "{}: {}", self.at, self.reason)
+        write!(f, "{}: {}", self.at, escape_controls(&self.reason))
     }
 }
 
@@ -125,25 +160,26 @@ pub enum ProfileError {
     },
 }
 
-/// Any library error, for the binary to map to an exit code.
+/// Any library error, for the binary to map to an exit code. Its message has every control
+/// character escaped (`escape_controls`), whatever input text it echoes.
 #[derive(Debug, thiserror::Error)]
 pub enum Error {
-    #[error(transparent)]
+    #[error("{}", Escaped(.0))]
     Data(#[from] DataError),
-    #[error(transparent)]
+    #[error("{}", Escaped(.0))]
     Fit(#[from] FitError),
-    #[error(transparent)]
+    #[error("{}", Escaped(.0))]
     Profile(#[from] ProfileError),
-    #[error("{file}: cannot write: {source}")]
+    #[error("{}: cannot write: {}", Escaped(.file), Escaped(.source))]
     Write {
         file: String,
         #[source]
         source: std::io::Error,
     },
     /// A result could not be serialised (JSON, CSV or a chart): a bug or a value no format holds.
-    #[error("cannot render the output: {0}")]
+    #[error("cannot render the output: {}", Escaped(.0))]
     Serialize(String),
-    #[error("{0}")]
+    #[error("{}", Escaped(.0))]
     Usage(String),
 }
 

@@ -13,14 +13,17 @@ fn main() -> ExitCode {
         Err(e) => {
             // Help and version are successes; anything else is a usage error (exit 2).
             let code = if e.use_stderr() { 2 } else { 0 };
+            // `print` writes through a handle that ignores a closed stream.
             let _ = e.print();
             return ExitCode::from(code);
         }
     };
+    app::signals::install();
     match app::run(cli) {
         Ok(code) => ExitCode::from(code),
         Err(e) => {
-            eprintln!("runcal: error: {e}");
+            // Never eprintln!: it panics when stderr is closed (`runcal … 2>&1 | true`).
+            runcal::output::stderr_line(&format!("runcal: error: {e}"));
             ExitCode::from(2)
         }
     }

@@ -5,6 +5,7 @@
 pub mod args;
 pub mod cli;
 pub mod commands;
+pub mod signals;
 
 use runcal::{Error, Result, output};
 

@@ -41,7 +41,7 @@ pub struct Args {
 pub fn run(args: &Args) -> Result<u8, Error> {
     let diag = super::diagnostics(&args.output);
     let files = &args.input.files;
-    super::guard_outputs(&[args.output.output.as_ref()], files)?;
+    super::guard_outputs(&[("--output", args.output.output.as_ref())], files)?;
     let loss: Loss = args.loss.into();
     let mut candidates: Vec<Candidate> = super::parse_models(&args.model)?
         .into_iter()

@@ -45,8 +45,8 @@ pub struct Args {
 
 pub fn run(args: &Args) -> Result<u8, Error> {
     let diag = super::diagnostics(&args.output);
-    let files = &args.input.files;
-    super::guard_outputs(&[args.output.output.as_ref()], files)?;
+    let files = &super::reads(&args.input.files, &[Some(&args.profile)]);
+    super::guard_outputs(&[("--output", args.output.output.as_ref())], files)?;
     for (name, v) in [
         ("--max-mae", args.max_mae),
         ("--max-rmse", args.max_rmse),

@@ -73,9 +73,9 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     let files = &args.input.files;
     super::guard_outputs(
         &[
-            args.output.output.as_ref(),
-            args.save_profile.as_ref(),
-            args.plot.as_ref(),
+            ("--output", args.output.output.as_ref()),
+            ("--save-profile", args.save_profile.as_ref()),
+            ("--plot", args.plot.as_ref()),
         ],
         files,
     )?;

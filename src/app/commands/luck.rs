@@ -59,8 +59,14 @@ pub struct Args {
 
 pub fn run(args: &Args) -> Result<u8, Error> {
     let diag = super::diagnostics(&args.output);
-    let files = &args.input.files;
-    super::guard_outputs(&[args.output.output.as_ref(), args.plot.as_ref()], files)?;
+    let files = &super::reads(&args.input.files, &[args.profile.as_ref()]);
+    super::guard_outputs(
+        &[
+            ("--output", args.output.output.as_ref()),
+            ("--plot", args.plot.as_ref()),
+        ],
+        files,
+    )?;
     let profile = args.profile.as_deref().map(Profile::load).transpose()?;
     // The calibration's own definition of win% applies to the new data.
     let input = match &profile {

@@ -81,11 +81,22 @@ pub fn season_span(ds: &Dataset) -> Option<(i32, i32)> {
     Some((*s.first()?, *s.last()?))
 }
 
-/// Refuse before any work when an output would overwrite an input.
-pub fn guard_outputs(outputs: &[Option<&String>], inputs: &[String]) -> Result<(), Error> {
-    let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
-    for o in outputs.iter().flatten() {
-        runcal::output::check_not_input(o, &inputs)?;
-    }
-    Ok(())
+/// Every file a run reads: its data files and any other file it opens (a profile, …).
+pub fn reads(files: &[String], others: &[Option<&String>]) -> Vec<String> {
+    files
+        .iter()
+        .chain(others.iter().flatten().copied())
+        .cloned()
+        .collect()
+}
+
+/// Refuse before any work when an output would overwrite a file the run reads, or another output.
+/// Each output comes with the option that names it.
+pub fn guard_outputs(outputs: &[(&str, Option<&String>)], reads: &[String]) -> Result<(), Error> {
+    let reads: Vec<&str> = reads.iter().map(String::as_str).collect();
+    let outputs: Vec<(&str, &str)> = outputs
+        .iter()
+        .filter_map(|(opt, path)| path.map(|p| (*opt, p.as_str())))
+        .collect();
+    runcal::output::check_outputs(&outputs, &reads)
 }

@@ -102,30 +102,40 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     }
     match &args.out {
         Some(path) => {
+            runcal::output::check_outputs(&[("--out", path)], &[])?;
             // Streamed into a temporary file beside the target, renamed into place only when complete.
-            let tmp = runcal::output::temp_beside(path)?;
-            let mut w = std::io::BufWriter::with_capacity(1 << 20, tmp);
-            write_league(&mut w, &design, args, path)?;
-            let tmp = w
+            let file = runcal::output::OutputFile::create(path)?;
+            let mut w = std::io::BufWriter::with_capacity(1 << 20, file);
+            match write_league(&mut w, &design, args, path) {
+                Err(Error::Write { source, .. }) if is_closed(&source) => return Ok(0),
+                r => r?,
+            }
+            let file = w
                 .into_inner()
                 .map_err(|e| write_err(path)(e.into_error()))?;
-            runcal::output::commit(tmp, path)?;
+            file.commit()?;
             if !args.quiet {
-                eprintln!("note: wrote {path}");
+                runcal::output::stderr_line(&format!("note: wrote {path}"));
             }
         }
         None => {
             let mut w = std::io::BufWriter::with_capacity(1 << 20, std::io::stdout().lock());
-            write_league(&mut w, &design, args, "<stdout>")?;
+            // A reader that stops early (`| head -1`) is the reader's choice: exit 0.
+            match write_league(&mut w, &design, args, "<stdout>") {
+                Err(Error::Write { source, .. }) if is_closed(&source) => return Ok(0),
+                r => r?,
+            }
             match w.flush() {
-                Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => {
-                    return Err(write_err("<stdout>")(e));
-                }
+                Err(e) if !is_closed(&e) => return Err(write_err("<stdout>")(e)),
                 _ => {}
             }
         }
     }
     Ok(0)
+}
+
+fn is_closed(e: &std::io::Error) -> bool {
+    e.kind() == std::io::ErrorKind::BrokenPipe
 }
 
 fn write_league(w: &mut impl Write, design: &Design, args: &Args, name: &str) -> Result<(), Error> {
