@@ -184,10 +184,7 @@ impl Profile {
     }
 
     pub fn load(path: &str) -> Result<Profile, ProfileError> {
-        let text = std::fs::read_to_string(path).map_err(|source| ProfileError::Io {
-            file: path.to_string(),
-            source,
-        })?;
+        let text = read_capped(path)?;
         let value: serde_json::Value =
             serde_json::from_str(&text).map_err(|e| ProfileError::Invalid {
                 file: path.to_string(),
@@ -212,6 +209,10 @@ impl Profile {
             reason: e.to_string(),
         })?;
         p.model_checked(path)?;
+        p.check_fields().map_err(|reason| ProfileError::Invalid {
+            file: path.to_string(),
+            reason,
+        })?;
         Ok(p)
     }
 
@@ -231,7 +232,12 @@ impl Profile {
                     })
             })
             .collect::<Result<Vec<f64>, _>>()?;
-        Ok(Model::new(self.model, params))
+        let m = Model::new(self.model, params);
+        m.validate().map_err(|reason| ProfileError::Invalid {
+            file: path.to_string(),
+            reason,
+        })?;
+        Ok(m)
     }
 
     /// The calibrated model.
@@ -266,6 +272,104 @@ impl Profile {
             0.5 + level / 2.0,
         );
         Some((ci[1] - ci[0]) / (2.0 * z))
+    }
+}
+
+/// A profile is a small JSON file; anything larger is not one (and `/dev/zero` never ends).
+pub const MAX_PROFILE_BYTES: u64 = 1 << 20;
+
+/// Longest season a profile (or `luck --season-games`) may state.
+pub const MAX_SEASON_GAMES: u64 = 1_000_000;
+
+/// Read a profile: a regular file (a FIFO would block, a device never end) of at most
+/// [`MAX_PROFILE_BYTES`], UTF-8 with or without a byte-order mark.
+fn read_capped(path: &str) -> Result<String, ProfileError> {
+    use std::io::Read;
+    let io = |source| ProfileError::Io {
+        file: path.to_string(),
+        source,
+    };
+    let invalid = |reason: String| ProfileError::Invalid {
+        file: path.to_string(),
+        reason,
+    };
+    let meta = std::fs::metadata(path).map_err(io)?;
+    if !meta.is_file() {
+        return Err(invalid(
+            "not a regular file (a profile is read from a saved JSON file, not a device, FIFO or directory)".to_string(),
+        ));
+    }
+    let mut bytes = Vec::new();
+    std::fs::File::open(path)
+        .map_err(io)?
+        .take(MAX_PROFILE_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .map_err(io)?;
+    if bytes.len() as u64 > MAX_PROFILE_BYTES {
+        return Err(invalid(format!(
+            "larger than {} KiB; a saved calibration is a few KiB",
+            MAX_PROFILE_BYTES / 1024
+        )));
+    }
+    let body = bytes.strip_prefix(b"\xef\xbb\xbf").unwrap_or(&bytes);
+    String::from_utf8(body.to_vec()).map_err(|e| invalid(format!("not UTF-8 ({e})")))
+}
+
+impl Profile {
+    /// Every number a command will use, checked once on load; the first problem, named by field.
+    fn check_fields(&self) -> Result<(), String> {
+        let positive = |name: &str, v: f64| {
+            if v.is_finite() && v > 0.0 {
+                Ok(())
+            } else {
+                Err(format!("\"{name}\" must be a positive number, got {v}"))
+            }
+        };
+        let non_negative = |name: &str, v: f64| {
+            if v.is_finite() && v >= 0.0 {
+                Ok(())
+            } else {
+                Err(format!("\"{name}\" must be a non-negative number, got {v}"))
+            }
+        };
+        positive("runs_per_win", self.runs_per_win)?;
+        positive("average_rpg", self.average_rpg)?;
+        if let Some(k) = self.regression_games {
+            non_negative("regression_games", k)?;
+        }
+        if let Some(d) = self.dispersion {
+            positive("dispersion", d)?;
+        }
+        if self.season_games > MAX_SEASON_GAMES {
+            return Err(format!(
+                "\"season_games\" is {}; runcal projects seasons of at most {MAX_SEASON_GAMES} games",
+                self.season_games
+            ));
+        }
+        for (field, map) in [
+            ("std_errors", &self.std_errors),
+            ("std_errors_binomial", &self.std_errors_binomial),
+        ] {
+            for (n, v) in map.iter().flatten() {
+                non_negative(&format!("{field}.{n}"), *v)?;
+            }
+        }
+        for (n, [lo, hi]) in self.ci.iter().flatten() {
+            if !(lo.is_finite() && hi.is_finite() && lo <= hi) {
+                return Err(format!(
+                    "\"ci.{n}\" must be finite with lower <= upper, got [{lo}, {hi}]"
+                ));
+            }
+        }
+        if let Some(l) = self.ci_level
+            && !(l > 0.0 && l < 1.0)
+        {
+            return Err(format!("\"ci_level\" must lie between 0 and 1, got {l}"));
+        }
+        if self.ci.is_some() != self.ci_level.is_some() {
+            return Err("\"ci\" and \"ci_level\" come together (both or neither)".to_string());
+        }
+        Ok(())
     }
 }
 

@@ -60,6 +60,22 @@ pub struct Design {
     pub seed: u64,
 }
 
+/// Limits of a simulated league (documented in the README): sizes that fit in memory and time, run
+/// totals far from overflow, and four-digit years.
+pub mod limits {
+    pub const MAX_TEAMS: usize = 10_000;
+    pub const MAX_SEASONS: usize = 100_000;
+    pub const MAX_GAMES: usize = 10_000;
+    /// Team-seasons held in memory at once (a game log streams, but is held to the same size).
+    pub const MAX_TEAM_SEASONS: usize = 5_000_000;
+    pub const MAX_RUNS_PER_GAME: f64 = 1_000.0;
+    pub const MAX_TALENT_SD: f64 = 1.0;
+    /// Weibull shapes (Pythagorean exponents) from 0.5 to 20 cover every sport's published values
+    /// with room; a smaller shape has tails whose run totals no integer holds.
+    pub const SHAPE_RANGE: (f64, f64) = (0.5, 20.0);
+    pub const YEAR_RANGE: (i32, i32) = (1, 9999);
+}
+
 impl Design {
     /// A league like the demo's (Weibull shape 1.83, 4.5 runs per team per game, talent sd 0.08),
     /// seasons numbered from 1.
@@ -77,6 +93,8 @@ impl Design {
         }
     }
 
+    /// Check a Weibull league: the cheap invariant first (an even number of teams, so every team
+    /// plays every round), then sizes and parameters.
     pub fn validate(&self) -> Result<(), String> {
         if self.teams < 2 || !self.teams.is_multiple_of(2) {
             return Err(format!(
@@ -84,25 +102,59 @@ impl Design {
                 self.teams
             ));
         }
-        if self.seasons == 0 || self.games == 0 {
-            return Err("--seasons and --games must be at least 1".to_string());
+        self.validate_common()
+    }
+
+    /// Checks shared by both kinds of league: sizes against [`limits`], parameter domains, years.
+    pub fn validate_common(&self) -> Result<(), String> {
+        use limits::*;
+        for (name, v, max) in [
+            ("--teams", self.teams, MAX_TEAMS),
+            ("--seasons", self.seasons, MAX_SEASONS),
+            ("--games", self.games, MAX_GAMES),
+        ] {
+            if v == 0 || v > max {
+                return Err(format!("{name} must lie from 1 to {max}, got {v}"));
+            }
         }
-        if !(self.shape.is_finite() && self.shape > 0.0) {
+        if self.teams * self.seasons > MAX_TEAM_SEASONS {
             return Err(format!(
-                "--exponent (the Weibull shape) must be positive, got {}",
+                "--teams × --seasons is {}; runcal simulates at most {MAX_TEAM_SEASONS} team-seasons",
+                self.teams * self.seasons
+            ));
+        }
+        let (lo, hi) = SHAPE_RANGE;
+        if !(self.shape >= lo && self.shape <= hi) {
+            return Err(format!(
+                "--exponent (the Weibull shape) must lie from {lo} to {hi}, got {:?}",
                 self.shape
             ));
         }
-        if !(self.runs_per_game.is_finite() && self.runs_per_game > 0.0) {
+        if !(self.runs_per_game > 0.0 && self.runs_per_game <= MAX_RUNS_PER_GAME) {
             return Err(format!(
-                "--runs-per-game must be positive, got {}",
+                "--runs-per-game must be positive and at most {MAX_RUNS_PER_GAME}, got {:?}",
                 self.runs_per_game
             ));
         }
-        if !(self.talent_sd.is_finite() && self.talent_sd >= 0.0) {
+        if !(self.talent_sd >= 0.0 && self.talent_sd <= MAX_TALENT_SD) {
             return Err(format!(
-                "--talent-sd must be non-negative, got {}",
+                "--talent-sd must lie from 0 to {MAX_TALENT_SD}, got {:?}",
                 self.talent_sd
+            ));
+        }
+        let (first, last) = YEAR_RANGE;
+        let last_season = i64::from(self.first_season) + self.seasons as i64 - 1;
+        if self.first_season < first || last_season > i64::from(last) {
+            return Err(format!(
+                "seasons {}–{last_season} leave the years {first}–{last} (--first-season, --seasons)",
+                self.first_season
+            ));
+        }
+        // The last round's date must keep a four-digit year too (a long season runs past New Year).
+        let last_day = season_day(last_season as i32, self.games - 1);
+        if last_day.year > last {
+            return Err(format!(
+                "the last game would be played on {last_day}: choose an earlier --first-season or fewer --games"
             ));
         }
         Ok(())
@@ -283,6 +335,7 @@ impl SeasonRow {
 
 /// Team-season totals of a Weibull league.
 pub fn seasons(design: &Design) -> Result<Vec<SeasonRow>, String> {
+    design.validate()?;
     let n = design.teams;
     let mut rows: Vec<SeasonRow> = Vec::with_capacity(n * design.seasons);
     for s in 0..design.seasons {
@@ -309,12 +362,12 @@ pub fn truth_seasons(
     truth: &Model,
     rpg_range: (f64, f64),
 ) -> Result<Vec<SeasonRow>, String> {
-    if design.teams == 0 || design.seasons == 0 || design.games == 0 {
-        return Err("--teams, --seasons and --games must be at least 1".to_string());
-    }
-    if !(rpg_range.0 > 0.0 && rpg_range.1 >= rpg_range.0) {
+    design.validate_common()?;
+    truth.validate()?;
+    let max = 2.0 * limits::MAX_RUNS_PER_GAME;
+    if !(rpg_range.0 > 0.0 && rpg_range.1 >= rpg_range.0 && rpg_range.1 <= max) {
         return Err(format!(
-            "--rpg-range must be positive and ascending, got {}-{}",
+            "--rpg-range must be positive, ascending and at most {max}, got {}-{}",
             rpg_range.0, rpg_range.1
         ));
     }

@@ -6,6 +6,7 @@ pub mod args;
 pub mod cli;
 pub mod commands;
 pub mod signals;
+pub mod values;
 
 use runcal::{Error, Result, output};
 

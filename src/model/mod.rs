@@ -93,6 +93,48 @@ impl Model {
         Model { kind, params }
     }
 
+    /// Check the parameters against the model's domain: every value finite; the Pythagorean exponent,
+    /// PythagenPat's z and the linear runs per win positive (the fitter works in ln of them);
+    /// Pythagenport's exponent a·log10(RPG) + b positive from 1 to 100 runs per game (b > 0 and
+    /// 2a + b > 0), so no team's expectation runs backwards.
+    pub fn validate(&self) -> Result<(), String> {
+        let names = self.kind.param_names();
+        if self.params.len() != names.len() {
+            return Err(format!(
+                "{} takes {} parameter(s) ({}), got {}",
+                self.kind,
+                names.len(),
+                names.join(", "),
+                self.params.len()
+            ));
+        }
+        if let Some((n, v)) = names.iter().zip(&self.params).find(|(_, v)| !v.is_finite()) {
+            return Err(format!(
+                "{} {n} must be a finite number, got {v}",
+                self.kind
+            ));
+        }
+        match self.kind {
+            ModelKind::Pythagenport => {
+                let (a, b) = (self.params[0], self.params[1]);
+                if !(b > 0.0 && 2.0 * a + b > 0.0) {
+                    return Err(format!(
+                        "pythagenport a {a}, b {b} give a non-positive exponent a·log10(RPG) + b between 1 and 100 runs per game (need b > 0 and 2a + b > 0)"
+                    ));
+                }
+            }
+            _ => {
+                if self.params[0] <= 0.0 {
+                    return Err(format!(
+                        "{} {} must be positive, got {}",
+                        self.kind, names[0], self.params[0]
+                    ));
+                }
+            }
+        }
+        Ok(())
+    }
+
     /// `pythagorean:1.83`, `pythagenport:1.5,0.45`.
     pub fn label(&self) -> String {
         let p: Vec<String> = self.params.iter().map(|v| format!("{v}")).collect();
@@ -149,10 +191,9 @@ impl std::str::FromStr for Model {
                 params.len()
             ));
         }
-        if kind == ModelKind::Linear && params[0] <= 0.0 {
-            return Err(format!("runs_per_win must be positive in '{s}'"));
-        }
-        Ok(Model { kind, params })
+        let m = Model { kind, params };
+        m.validate().map_err(|e| format!("{e} in '{s}'"))?;
+        Ok(m)
     }
 }
 
@@ -257,5 +298,11 @@ mod tests {
         assert!("pythagorean:1,2".parse::<Model>().is_err());
         assert!("cubic:3".parse::<Model>().is_err());
         assert!("linear:0".parse::<Model>().is_err());
+        // Outside the domain: a negative exponent, z or intercept.
+        assert!("pythagorean:-2".parse::<Model>().is_err());
+        assert!("pythagorean:0".parse::<Model>().is_err());
+        assert!("pythagenpat:-0.3".parse::<Model>().is_err());
+        assert!("pythagenport:1.5,-0.45".parse::<Model>().is_err());
+        assert!("pythagenport:-1,0.45".parse::<Model>().is_err());
     }
 }

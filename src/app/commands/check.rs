@@ -1,6 +1,7 @@
 //! `runcal check`: the CI gate. Exit 1 when new data drift from the saved calibration.
 
-use crate::app::args::{InputArgs, OutputArgs};
+use crate::app::args::{InputArgs, OutputArgs, positive};
+use crate::app::values;
 use runcal::error::Error;
 use runcal::fit::{self, loss};
 use runcal::gate::{self, Bounds};
@@ -24,17 +25,17 @@ pub struct Args {
     #[arg(long, required = true, value_name = "FILE")]
     pub profile: String,
     /// Fail when the calibration's MAE on the new data exceeds X.
-    #[arg(long, value_name = "X")]
+    #[arg(long, value_name = "X", allow_negative_numbers = true, value_parser = values::non_negative)]
     pub max_mae: Option<f64>,
     /// Fail when its RMSE exceeds X.
-    #[arg(long, value_name = "X")]
+    #[arg(long, value_name = "X", allow_negative_numbers = true, value_parser = values::non_negative)]
     pub max_rmse: Option<f64>,
     /// Fail when its log-loss exceeds X.
-    #[arg(long, value_name = "X")]
+    #[arg(long, value_name = "X", allow_negative_numbers = true, value_parser = values::non_negative)]
     pub max_logloss: Option<f64>,
     /// Fail when a refitted parameter lies more than S standard errors (of the difference) from the
     /// saved one.
-    #[arg(long, value_name = "S", default_value_t = 3.0)]
+    #[arg(long, value_name = "S", default_value_t = 3.0, allow_negative_numbers = true, value_parser = positive)]
     pub max_drift: f64,
     /// Skip the drift rule (only the error bounds apply).
     #[arg(long)]
@@ -47,25 +48,6 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     let diag = super::diagnostics(&args.output);
     let files = &super::reads(&args.input.files, &[Some(&args.profile)]);
     super::guard_outputs(&[("--output", args.output.output.as_ref())], files)?;
-    for (name, v) in [
-        ("--max-mae", args.max_mae),
-        ("--max-rmse", args.max_rmse),
-        ("--max-logloss", args.max_logloss),
-    ] {
-        if let Some(x) = v
-            && !(x.is_finite() && x >= 0.0)
-        {
-            return Err(Error::Usage(format!(
-                "{name} must be a non-negative number, got {x}"
-            )));
-        }
-    }
-    if !(args.max_drift.is_finite() && args.max_drift > 0.0) {
-        return Err(Error::Usage(format!(
-            "--max-drift must be a positive number, got {}",
-            args.max_drift
-        )));
-    }
     let profile = Profile::load(&args.profile)?;
     let input = args.input.as_in_profile(&profile);
     let (ds, table) = super::load(&input, None, &diag)?;

@@ -1,6 +1,7 @@
 //! `runcal fit`: fit a league's exponent (or every model) and compare with published references.
 
 use crate::app::args::{FormatArg, InputArgs, LossArg, OutputArgs, ResampleArg, level, positive};
+use crate::app::values;
 use runcal::error::Error;
 use runcal::fit::calibrate::{Plan, calibrate};
 use runcal::fit::{GroupBy, bootstrap};
@@ -29,7 +30,7 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = LossArg::Logloss)]
     pub loss: LossArg,
     /// Score this Pythagorean exponent instead of fitting one.
-    #[arg(long, value_name = "X", value_parser = positive, conflicts_with_all = ["by", "bootstrap", "model"])]
+    #[arg(long, value_name = "X", value_parser = positive, allow_negative_numbers = true, conflicts_with_all = ["by", "bootstrap", "model"])]
     pub exponent: Option<f64>,
     /// Fit each season, league, or season and league separately.
     #[arg(long, value_name = "season|league|season,league")]
@@ -43,8 +44,8 @@ pub struct Args {
     /// Leave out the published references (exponents 2 and 1.83, PythagenPat 0.287, Pythagenport 1.5/0.45).
     #[arg(long)]
     pub no_references: bool,
-    /// Bootstrap resamples for percentile intervals (0: none).
-    #[arg(long, default_value_t = 0, value_name = "N")]
+    /// Bootstrap resamples for percentile intervals (0: none; at most 100000).
+    #[arg(long, default_value_t = 0, value_name = "N", value_parser = values::count::<{ values::MAX_BOOTSTRAP }>)]
     pub bootstrap: usize,
     /// Seed of the bootstrap's random streams.
     #[arg(long, default_value_t = 1, value_name = "S")]
@@ -53,7 +54,7 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = ResampleArg::Team)]
     pub resample: ResampleArg,
     /// Coverage of the bootstrap intervals.
-    #[arg(long, default_value_t = 0.95, value_name = "L", value_parser = level)]
+    #[arg(long, default_value_t = 0.95, value_name = "L", value_parser = level, allow_negative_numbers = true)]
     pub ci_level: f64,
     /// Save the first model's calibration as a profile for `luck` and `check`.
     #[arg(long, value_name = "FILE")]
@@ -62,7 +63,7 @@ pub struct Args {
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<String>,
     /// How many over- and under-performers to list.
-    #[arg(long, default_value_t = 5, value_name = "N")]
+    #[arg(long, default_value_t = 5, value_name = "N", value_parser = values::count::<{ values::MAX_TOP }>)]
     pub top: usize,
     #[command(flatten)]
     pub output: OutputArgs,

@@ -1,6 +1,7 @@
 //! `runcal luck`: the weekly report of teams ahead of or behind their scoring, with projections.
 
 use crate::app::args::{InputArgs, OutputArgs, positive};
+use crate::app::values;
 use runcal::data::gamelog::Date;
 use runcal::error::Error;
 use runcal::fit::{self, Loss};
@@ -31,21 +32,21 @@ pub struct Args {
     /// Use only games played on or before this date (game logs, ISO 8601).
     #[arg(long, value_name = "DATE")]
     pub as_of: Option<Date>,
-    /// Season length for the projection (default: the profile's).
-    #[arg(long, value_name = "N")]
+    /// Season length for the projection (default: the profile's; at most 1000000).
+    #[arg(long, value_name = "N", value_parser = values::count_u64::<{ runcal::profile::MAX_SEASON_GAMES }>)]
     pub season_games: Option<u64>,
     /// Games of regression toward .500 of the run-based win% (default: the profile's, else
     /// (1 − dispersion) × the actual-record constant estimated on these data).
-    #[arg(long, value_name = "K")]
+    #[arg(long, value_name = "K", allow_negative_numbers = true, value_parser = values::non_negative)]
     pub regress_games: Option<f64>,
     /// Dispersion φ of the noise model (default: the profile's, else measured on these data).
-    #[arg(long, value_name = "PHI", value_parser = positive)]
+    #[arg(long, value_name = "PHI", value_parser = positive, allow_negative_numbers = true)]
     pub dispersion: Option<f64>,
     /// Show only the N teams most ahead of and the N most behind their scoring.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = values::count::<{ values::MAX_TOP }>)]
     pub top: Option<usize>,
     /// Apply this Pythagorean exponent instead of a profile or a fit.
-    #[arg(long, value_name = "X", conflicts_with = "profile")]
+    #[arg(long, value_name = "X", conflicts_with = "profile", allow_negative_numbers = true, value_parser = positive)]
     pub exponent: Option<f64>,
     /// Without a profile: the model to fit on the given data.
     #[arg(long, default_value = "pythagorean", value_name = "M")]
@@ -105,21 +106,15 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     let season_games = args
         .season_games
         .or(profile.as_ref().map(|p| p.season_games));
-    let k = match args.regress_games {
-        Some(k) if k.is_finite() && k >= 0.0 => Some(k),
-        Some(k) => {
-            return Err(Error::Usage(format!(
-                "--regress-games must be a non-negative number, got {k}"
-            )));
-        }
-        None => profile
+    let k = args.regress_games.or_else(|| {
+        profile
             .as_ref()
             .and_then(Profile::run_based_regression_games)
             .or_else(|| {
                 let k = luck::regression_games(&table)?;
                 luck::run_based_regression_games(k, noise.dispersion).or(Some(k))
-            }),
-    };
+            })
+    });
     let outlook = match (season_games, k) {
         (Some(season_games), Some(k)) => Some(luck::Outlook {
             season_games,

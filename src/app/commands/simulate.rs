@@ -31,19 +31,39 @@ pub struct Args {
     #[arg(long, default_value_t = 140, value_name = "G")]
     pub games: usize,
     /// Weibull shape of the scores: the Pythagorean exponent of the league.
-    #[arg(long, default_value_t = 1.83, value_name = "X")]
+    #[arg(
+        long,
+        default_value_t = 1.83,
+        value_name = "X",
+        allow_negative_numbers = true
+    )]
     pub exponent: f64,
     /// Random seed (the same seed gives the same file).
     #[arg(long, default_value_t = 1, value_name = "S")]
     pub seed: u64,
     /// Mean runs per team per game.
-    #[arg(long, default_value_t = 4.5, value_name = "R")]
+    #[arg(
+        long,
+        default_value_t = 4.5,
+        value_name = "R",
+        allow_negative_numbers = true
+    )]
     pub runs_per_game: f64,
     /// Spread of team strength: standard deviation of ln(offence) and ln(defence).
-    #[arg(long, default_value_t = 0.08, value_name = "SD")]
+    #[arg(
+        long,
+        default_value_t = 0.08,
+        value_name = "SD",
+        allow_negative_numbers = true
+    )]
     pub talent_sd: f64,
     /// The first season's year.
-    #[arg(long, default_value_t = 2001, value_name = "YEAR")]
+    #[arg(
+        long,
+        default_value_t = 2001,
+        value_name = "YEAR",
+        allow_negative_numbers = true
+    )]
     pub first_season: i32,
     /// League name written in the league column.
     #[arg(long, default_value = "Meridian League", value_name = "NAME")]
@@ -73,6 +93,9 @@ fn parse_range(s: &str) -> Result<(f64, f64), String> {
     let (a, b) = s.split_once('-').ok_or_else(bad)?;
     let lo: f64 = a.trim().parse().map_err(|_| bad())?;
     let hi: f64 = b.trim().parse().map_err(|_| bad())?;
+    if !(lo.is_finite() && hi.is_finite()) {
+        return Err(format!("the range needs finite bounds, got '{s}'"));
+    }
     Ok((lo, hi))
 }
 
@@ -100,6 +123,12 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             "--game-log writes CSV only (use --format csv)".to_string(),
         ));
     }
+    // Every size and parameter is checked before a file is opened.
+    match &args.truth {
+        Some(_) => design.validate_common(),
+        None => design.validate(),
+    }
+    .map_err(Error::Usage)?;
     match &args.out {
         Some(path) => {
             runcal::output::check_outputs(&[("--out", path)], &[])?;

@@ -1,0 +1,360 @@
+//! Sizes, parameter domains and saved calibrations checked up front: each refusal exits 2 with a
+//! message naming the option or field, before any work; nothing panics, aborts or hangs.
+
+mod common;
+
+use std::path::Path;
+use std::time::Duration;
+
+use common::{repo, runcal};
+
+fn demo() -> String {
+    repo()
+        .join("demo-data/meridian-league.csv")
+        .display()
+        .to_string()
+}
+
+fn demo_profile() -> serde_json::Value {
+    let text = std::fs::read_to_string(repo().join("demo-data/meridian-profile.json")).unwrap();
+    serde_json::from_str(&text).unwrap()
+}
+
+/// Run and expect exit 2 with `words` on stderr and no panic.
+#[track_caller]
+fn refused(args: &[&str], words: &str) {
+    let out = runcal().args(args).output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
+    assert!(
+        err.contains(words),
+        "{args:?}: stderr lacks '{words}':\n{err}"
+    );
+    assert!(!err.contains("panicked"), "{err}");
+}
+
+#[test]
+fn simulate_refuses_sizes_and_parameters_outside_its_limits() {
+    for (args, words) in [
+        (
+            vec!["--seasons", "1000000000000"],
+            "--seasons must lie from 1 to 100000",
+        ),
+        (
+            vec!["--teams", "100000000000"],
+            "--teams must lie from 1 to 10000",
+        ),
+        (
+            vec!["--teams", "5000", "--seasons", "5000"],
+            "at most 5000000 team-seasons",
+        ),
+        (
+            vec!["--runs-per-game", "1e300"],
+            "--runs-per-game must be positive and at most 1000",
+        ),
+        (
+            vec!["--first-season", "2147483647"],
+            "leave the years 1–9999",
+        ),
+        (
+            vec!["--first-season", "9999", "--game-log"],
+            "leave the years 1–9999",
+        ),
+        (
+            vec![
+                "--first-season",
+                "9999",
+                "--seasons",
+                "1",
+                "--games",
+                "300",
+                "--game-log",
+            ],
+            "the last game would be played on 10000-",
+        ),
+        (
+            vec!["--truth", "pythagorean:-2"],
+            "pythagorean exponent must be positive",
+        ),
+        (
+            vec!["--truth", "pythagorean:2", "--rpg-range", "1-inf"],
+            "finite bounds",
+        ),
+        (
+            vec!["--truth", "pythagorean:2", "--rpg-range", "1-1e9"],
+            "--rpg-range must be",
+        ),
+        (
+            vec!["--exponent", "-1"],
+            "--exponent (the Weibull shape) must lie from 0.5 to 20",
+        ),
+        (
+            vec!["--talent-sd", "50"],
+            "--talent-sd must lie from 0 to 1",
+        ),
+    ] {
+        let mut a = vec!["simulate"];
+        a.extend(args);
+        refused(&a, words);
+    }
+}
+
+#[test]
+fn simulate_checks_even_teams_before_sizes() {
+    refused(
+        &["simulate", "--teams", "3", "--seasons", "1000000000"],
+        "--teams must be an even number",
+    );
+}
+
+#[test]
+fn option_values_outside_their_domain_are_refused() {
+    let d = demo();
+    for (args, words) in [
+        (
+            vec!["fit", &d, "--bootstrap", "1000000000"],
+            "at most 100000",
+        ),
+        (
+            vec!["fit", &d, "--exponent", "-1"],
+            "must be a positive number, got -1",
+        ),
+        (
+            vec!["fit", &d, "--ci-level", "1.5", "--bootstrap", "10"],
+            "strictly between 0 and 1",
+        ),
+        (
+            vec!["fit", &d, "--reference", "pythagorean:-1"],
+            "pythagorean exponent must be positive",
+        ),
+        (
+            vec!["fit", &d, "--reference", "pythagenport:1.5,-3"],
+            "non-positive exponent",
+        ),
+        (
+            vec!["luck", &d, "--top", "9223372036854775808"],
+            "at most 1000000",
+        ),
+        (
+            vec!["luck", &d, "--exponent", "-1"],
+            "must be a positive number",
+        ),
+        (
+            vec!["luck", &d, "--regress-games", "-5"],
+            "must be a non-negative number",
+        ),
+        (
+            vec!["luck", &d, "--season-games", "1000000000000"],
+            "from 1 to 1000000",
+        ),
+        (vec!["luck", &d, "--season-games", "0"], "from 1 to 1000000"),
+    ] {
+        refused(&args, words);
+    }
+    let p = repo()
+        .join("demo-data/meridian-profile.json")
+        .display()
+        .to_string();
+    refused(
+        &["check", &d, "--profile", &p, "--max-mae", "-1"],
+        "must be a non-negative number",
+    );
+    refused(
+        &["check", &d, "--profile", &p, "--max-drift", "-3"],
+        "must be a positive number",
+    );
+}
+
+#[test]
+fn top_larger_than_the_table_lists_every_team() {
+    let out = runcal()
+        .args([
+            "luck",
+            &demo(),
+            "--top",
+            "1000000",
+            "--format",
+            "json",
+            "-q",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["teams"].as_array().unwrap().len(), 350);
+}
+
+#[test]
+fn a_million_game_season_projects_at_once() {
+    // Beyond 20,000 remaining games the interval comes from the normal approximation, so a
+    // 1,000,000-game season costs no more than a 162-game one.
+    let out = runcal()
+        .args([
+            "luck",
+            &demo(),
+            "--season-games",
+            "1000000",
+            "--format",
+            "json",
+            "-q",
+        ])
+        .timeout(Duration::from_secs(60))
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let t = &v["teams"][0];
+    let (lo, hi) = (
+        t["projected_interval"][0].as_f64().unwrap(),
+        t["projected_interval"][1].as_f64().unwrap(),
+    );
+    assert!(lo < hi && hi <= 1_000_000.0, "{lo} {hi}");
+}
+
+fn write_profile(dir: &Path, v: &serde_json::Value) -> String {
+    let p = dir.join("p.json");
+    std::fs::write(&p, serde_json::to_string_pretty(v).unwrap()).unwrap();
+    p.display().to_string()
+}
+
+#[test]
+fn every_profile_field_is_checked_on_load() {
+    let dir = tempfile::tempdir().unwrap();
+    let cases: Vec<(&str, serde_json::Value, &str)> = vec![
+        (
+            "/params/exponent",
+            serde_json::json!(-1.9),
+            "pythagorean exponent must be positive",
+        ),
+        (
+            "/params/exponent",
+            serde_json::json!(0.0),
+            "pythagorean exponent must be positive",
+        ),
+        (
+            "/runs_per_win",
+            serde_json::json!(0.0),
+            "\"runs_per_win\" must be a positive number",
+        ),
+        (
+            "/regression_games",
+            serde_json::json!(-4.0),
+            "\"regression_games\" must be a non-negative",
+        ),
+        (
+            "/std_errors/exponent",
+            serde_json::json!(-0.1),
+            "\"std_errors.exponent\" must be a non-negative",
+        ),
+        (
+            "/std_errors_binomial/exponent",
+            serde_json::json!(-0.1),
+            "\"std_errors_binomial.exponent\"",
+        ),
+        (
+            "/dispersion",
+            serde_json::json!(0.0),
+            "\"dispersion\" must be a positive number",
+        ),
+        (
+            "/season_games",
+            serde_json::json!(1_000_000_000_000u64),
+            "\"season_games\" is 1000000000000",
+        ),
+        (
+            "/average_rpg",
+            serde_json::json!(-9.0),
+            "\"average_rpg\" must be a positive number",
+        ),
+    ];
+    for (pointer, value, words) in cases {
+        let mut v = demo_profile();
+        *v.pointer_mut(pointer).unwrap() = value;
+        let p = write_profile(dir.path(), &v);
+        refused(
+            &[
+                "check",
+                &demo(),
+                "--profile",
+                &p,
+                "--max-mae",
+                "1",
+                "--no-drift",
+            ],
+            words,
+        );
+        refused(&["luck", &demo(), "--profile", &p], words);
+    }
+}
+
+#[test]
+fn a_profile_interval_is_ordered_and_its_level_inside_zero_one() {
+    // Before: a ci_level of 1.5 and no standard errors made `check` panic in the normal quantile.
+    let dir = tempfile::tempdir().unwrap();
+    let mut v = demo_profile();
+    v["std_errors"] = serde_json::Value::Null;
+    v["ci"] = serde_json::json!({"exponent": [1.8, 2.0]});
+    v["ci_level"] = serde_json::json!(1.5);
+    let p = write_profile(dir.path(), &v);
+    refused(
+        &["check", &demo(), "--profile", &p],
+        "\"ci_level\" must lie between 0 and 1",
+    );
+    v["ci_level"] = serde_json::json!(0.95);
+    v["ci"] = serde_json::json!({"exponent": [2.0, 1.8]});
+    let p = write_profile(dir.path(), &v);
+    refused(&["check", &demo(), "--profile", &p], "lower <= upper");
+}
+
+#[test]
+fn a_profile_with_a_byte_order_mark_is_read() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("bom.json");
+    let mut bytes = b"\xef\xbb\xbf".to_vec();
+    bytes.extend(std::fs::read(repo().join("demo-data/meridian-profile.json")).unwrap());
+    std::fs::write(&p, bytes).unwrap();
+    runcal()
+        .args(["luck", &demo(), "--profile", &p.display().to_string(), "-q"])
+        .assert()
+        .success();
+}
+
+#[test]
+fn a_profile_that_is_not_a_small_regular_file_is_refused() {
+    refused(
+        &["luck", &demo(), "--profile", "/dev/zero"],
+        "not a regular file",
+    );
+    let dir = tempfile::tempdir().unwrap();
+    refused(
+        &[
+            "luck",
+            &demo(),
+            "--profile",
+            &dir.path().display().to_string(),
+        ],
+        "not a regular file",
+    );
+    let big = dir.path().join("big.json");
+    std::fs::write(&big, vec![b' '; (1 << 20) + 1]).unwrap();
+    refused(
+        &["luck", &demo(), "--profile", &big.display().to_string()],
+        "larger than 1024 KiB",
+    );
+    // A FIFO with no writer would block an open() for ever: it is refused without opening it.
+    let fifo = dir.path().join("fifo.json");
+    assert!(
+        std::process::Command::new("mkfifo")
+            .arg(&fifo)
+            .status()
+            .unwrap()
+            .success()
+    );
+    let out = runcal()
+        .args(["luck", &demo(), "--profile", &fifo.display().to_string()])
+        .timeout(Duration::from_secs(30))
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("not a regular file"));
+}
