@@ -410,3 +410,41 @@ fn quiet_silences_warnings_and_verbose_adds_diagnostics() {
         .success()
         .stderr(contains("debug: pythagorean"));
 }
+
+#[test]
+fn league_balance_rules_fail_a_corrupted_season_file() {
+    // 2021 of this file has a mistyped record: 338 wins against 310 losses, 3000 runs scored
+    // against 2940 allowed; in a complete league table both sides are equal (common practice).
+    let (_dir, profile) = setup();
+    let bad = common::repo().join("tests/bad-input/season-unbalanced.csv");
+    runcal()
+        .args(["check"])
+        .arg(&bad)
+        .args(["--profile"])
+        .arg(&profile)
+        .args(["--no-drift", "--max-mae", "1", "--max-imbalance", "0.005"])
+        .args(["--format", "json"])
+        .assert()
+        .code(1)
+        .stdout(contains("\"rule\": \"league_wins_balance\""))
+        .stdout(contains("\"rule\": \"league_runs_balance\""));
+    // Without the option the gate passes on its other rules, and warns.
+    runcal()
+        .args(["check"])
+        .arg(&bad)
+        .args(["--profile"])
+        .arg(&profile)
+        .args(["--no-drift", "--max-mae", "1"])
+        .assert()
+        .code(0)
+        .stderr(contains(
+            "season 2021: the 4 teams' wins (338) and losses (310) do not balance",
+        ));
+    // The simulated demo history balances exactly: every game has a winner and a loser.
+    runcal()
+        .args(["check", "demo-data/meridian-league.csv", "--profile"])
+        .arg(&profile)
+        .args(["--no-drift", "--max-imbalance", "0"])
+        .assert()
+        .code(0);
+}

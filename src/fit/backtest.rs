@@ -71,32 +71,73 @@ pub struct CandidateScore {
     pub folds: Vec<Fold>,
 }
 
-/// Seasons held out under a scheme, each with its training and test row indices.
-pub fn folds(
-    rows: &[TeamSeason],
+/// One held-out season: its rows, and which rows train the fit (listed only when the fold runs,
+/// so memory stays linear in rows however many seasons there are).
+#[derive(Debug, Clone, PartialEq)]
+pub struct FoldPlan {
+    pub season: i32,
+    pub test: Vec<usize>,
+    pub train_rows: usize,
     scheme: Scheme,
-    min_train: usize,
-) -> Vec<(i32, Vec<usize>, Vec<usize>)> {
+}
+
+impl FoldPlan {
+    /// The training rows' indices.
+    pub fn train(&self, rows: &[TeamSeason]) -> Vec<usize> {
+        let keep = |s: i32| match self.scheme {
+            Scheme::LeaveOneSeasonOut => s != self.season,
+            Scheme::Rolling => s < self.season,
+        };
+        (0..rows.len()).filter(|&i| keep(rows[i].season)).collect()
+    }
+}
+
+/// Seasons held out under a scheme, each with its test rows and the size of its training set.
+pub fn folds(rows: &[TeamSeason], scheme: Scheme, min_train: usize) -> Vec<FoldPlan> {
+    let mut by_season: std::collections::BTreeMap<i32, Vec<usize>> = Default::default();
+    for (i, r) in rows.iter().enumerate() {
+        by_season.entry(r.season).or_default().push(i);
+    }
+    let mut out = Vec::new();
+    let mut before = 0;
+    for (pos, (season, test)) in by_season.into_iter().enumerate() {
+        let n_test = test.len();
+        let train_rows = match scheme {
+            Scheme::LeaveOneSeasonOut => rows.len() - n_test,
+            Scheme::Rolling => before,
+        };
+        before += n_test;
+        if train_rows == 0 || (scheme == Scheme::Rolling && pos < min_train) {
+            continue;
+        }
+        out.push(FoldPlan {
+            season,
+            test,
+            train_rows,
+            scheme,
+        });
+    }
+    out
+}
+
+/// Why no season could be held out, in the user's terms.
+fn no_folds(rows: &[TeamSeason], scheme: Scheme, min_train: usize) -> FitError {
     let mut seasons: Vec<i32> = rows.iter().map(|r| r.season).collect();
     seasons.sort_unstable();
     seasons.dedup();
-    let mut out = Vec::new();
-    for (pos, &y) in seasons.iter().enumerate() {
-        let train: Vec<usize> = match scheme {
-            Scheme::LeaveOneSeasonOut => (0..rows.len()).filter(|&i| rows[i].season != y).collect(),
-            Scheme::Rolling => {
-                if pos < min_train {
-                    continue;
-                }
-                (0..rows.len()).filter(|&i| rows[i].season < y).collect()
-            }
-        };
-        let test: Vec<usize> = (0..rows.len()).filter(|&i| rows[i].season == y).collect();
-        if !train.is_empty() {
-            out.push((y, train, test));
-        }
-    }
-    out
+    let held = match seasons.as_slice() {
+        [one] => format!("one season ({one})"),
+        s => format!("{} seasons", s.len()),
+    };
+    FitError::Invalid(match scheme {
+        Scheme::LeaveOneSeasonOut => format!(
+            "leave-one-season-out needs at least two seasons (one to hold out, one to fit on); the data hold {held}"
+        ),
+        Scheme::Rolling => format!(
+            "rolling with --min-train {min_train} needs more than {} season(s); the data hold {held}",
+            min_train.max(1)
+        ),
+    })
 }
 
 /// Run a backtest for every candidate. Folds run in parallel; order is that of the seasons.
@@ -110,24 +151,17 @@ pub fn run(
 ) -> Result<Vec<CandidateScore>, FitError> {
     let folds = folds(rows, scheme, min_train);
     if folds.is_empty() {
-        return Err(FitError::Invalid(format!(
-            "no season can be held out: {} needs at least {} earlier season(s) of training data",
-            scheme.name(),
-            if scheme == Scheme::Rolling {
-                min_train.max(1)
-            } else {
-                1
-            }
-        )));
+        return Err(no_folds(rows, scheme, min_train));
     }
     let mut out = Vec::new();
     for c in candidates {
         let results: Vec<Result<FoldPredictions, FitError>> = folds
             .par_iter()
-            .map(|(season, train, test)| {
+            .map(|plan| {
+                let test = &plan.test;
                 let params = match c {
                     Candidate::Fit(kind) => {
-                        let sub = t.subset(train);
+                        let sub = t.subset(&plan.train(rows));
                         solve::fit(
                             Problem {
                                 table: &sub,
@@ -153,8 +187,8 @@ pub fn run(
                 let fold_loss = loss.of(&metrics(&test_table, kind, &params, None));
                 Ok((
                     Fold {
-                        season: *season,
-                        train_rows: train.len(),
+                        season: plan.season,
+                        train_rows: plan.train_rows,
                         test_rows: test.len(),
                         params,
                         loss: fold_loss,
@@ -186,4 +220,55 @@ pub fn run(
             .then_with(|| a.candidate.label().cmp(&b.candidate.label()))
     });
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn rows(seasons: i32, teams: usize) -> Vec<TeamSeason> {
+        (0..seasons)
+            .flat_map(|s| {
+                (0..teams).map(move |team| crate::simulate::SeasonRow {
+                    season: 2000 + s,
+                    team,
+                    games: 10,
+                    wins: 4 + team as u64 % 3,
+                    losses: 6 - team as u64 % 3,
+                    runs_scored: 40,
+                    runs_allowed: 44,
+                })
+            })
+            .map(|r| r.team_season(None))
+            .collect()
+    }
+
+    #[test]
+    fn fold_plans_hold_each_row_once_whatever_the_number_of_seasons() {
+        // Memory linear in rows: 2,000 seasons of 2 teams keep 4,000 indices, not 2,000 × 4,000.
+        let rows = rows(2000, 2);
+        let plans = folds(&rows, Scheme::LeaveOneSeasonOut, 0);
+        assert_eq!(plans.len(), 2000);
+        assert_eq!(
+            plans.iter().map(|p| p.test.len()).sum::<usize>(),
+            rows.len()
+        );
+        let p = &plans[7];
+        let train = p.train(&rows);
+        assert_eq!(train.len(), p.train_rows);
+        assert!(train.iter().all(|&i| rows[i].season != p.season));
+        let rolling = folds(&rows, Scheme::Rolling, 3);
+        assert_eq!(rolling[0].season, 2003);
+        assert_eq!(rolling[0].train(&rows).len(), 6);
+    }
+
+    #[test]
+    fn one_season_cannot_be_held_out_and_says_so() {
+        let rows = rows(1, 4);
+        let e = no_folds(&rows, Scheme::LeaveOneSeasonOut, 0).to_string();
+        assert!(
+            e.contains("needs at least two seasons") && e.contains("one season (2000)"),
+            "{e}"
+        );
+    }
 }

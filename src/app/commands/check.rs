@@ -40,6 +40,12 @@ pub struct Args {
     /// Skip the drift rule (only the error bounds apply).
     #[arg(long)]
     pub no_drift: bool,
+    /// Fail when, in some season, wins and losses (with unpaired ties) or runs scored and allowed
+    /// differ by more than this fraction of their total: rows missing, doubled or mistyped. Each
+    /// season's rows must hold every club of the competition (inter-league games cancel only then).
+    /// Without it, seasons off by more than 0.005 are only warned about.
+    #[arg(long, value_name = "F", allow_negative_numbers = true, value_parser = values::non_negative)]
+    pub max_imbalance: Option<f64>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -60,10 +66,14 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         max_logloss: args.max_logloss,
         max_drift: (!args.no_drift).then_some(args.max_drift),
     };
-    let rules = gate::evaluate(&profile, &scored, &refit, &bounds).map_err(Error::Usage)?;
+    let mut rules = gate::evaluate(&profile, &scored, &refit, &bounds).map_err(Error::Usage)?;
+    match args.max_imbalance {
+        Some(max) => rules.extend(runcal::balance::rules(&ds.rows, max)),
+        None => super::warn_unbalanced(&input, &ds, &diag),
+    }
     if rules.is_empty() {
         return Err(Error::Usage(
-            "no rule to check: give --max-mae, --max-rmse or --max-logloss, or drop --no-drift"
+            "no rule to check: give --max-mae, --max-rmse, --max-logloss or --max-imbalance, or drop --no-drift"
                 .to_string(),
         ));
     }

@@ -81,6 +81,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         files,
     )?;
     let (ds, table) = super::load(&args.input, None, &diag)?;
+    super::warn_unbalanced(&args.input, &ds, &diag);
     let plan = Plan {
         models: super::parse_models(&args.model)?,
         loss: args.loss.into(),

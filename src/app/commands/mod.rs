@@ -37,6 +37,16 @@ pub fn load(
     Ok((ds, table))
 }
 
+/// Warn about seasons whose wins and losses, or runs scored and allowed, do not balance (rows
+/// missing, doubled or mistyped). Not with --league: one league alone need not balance.
+pub fn warn_unbalanced(input: &InputArgs, ds: &Dataset, diag: &Diagnostics) {
+    if input.league.is_none() {
+        for w in runcal::balance::warnings(&ds.rows, runcal::balance::WARN_IMBALANCE) {
+            diag.warn(&w);
+        }
+    }
+}
+
 /// Render and write a report.
 pub fn emit(report: &dyn Report, out: &OutputArgs, inputs: &[String]) -> Result<(), Error> {
     let bytes = report::render(report, out.format.into())?;
