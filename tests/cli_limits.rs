@@ -358,3 +358,79 @@ fn a_profile_that_is_not_a_small_regular_file_is_refused() {
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("not a regular file"));
 }
+
+#[test]
+fn a_by_group_that_cannot_be_fitted_is_named_marked_and_the_rest_go_on() {
+    // In 2021 every winner outscored its opponents and won every game: the log-loss falls for ever
+    // as the exponent grows (perfect separation, no maximum-likelihood estimate).
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("sep.csv");
+    std::fs::write(
+        &f,
+        "season,team,w,l,rs,ra\n2020,Aces,90,72,800,700\n2020,Bats,72,90,700,800\n\
+         2020,Cubs,81,81,740,751\n2020,Dogs,81,81,751,740\n2021,Aces,10,0,60,40\n\
+         2021,Bats,0,10,40,60\n2021,Cubs,10,0,50,45\n2021,Dogs,0,10,45,50\n",
+    )
+    .unwrap();
+    let out = runcal()
+        .args([
+            "fit",
+            &f.display().to_string(),
+            "--by",
+            "season",
+            "--min-group",
+            "1",
+        ])
+        .args(["--format", "json"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("group 2021: cannot fit pythagorean"), "{err}");
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["fits"].as_array().unwrap().len(), 1);
+    assert_eq!(v["fits"][0]["group"]["season"], 2020);
+    assert_eq!(v["unfitted_groups"][0]["group"]["season"], 2021);
+    assert_eq!(v["unfitted_groups"][0]["rows"], 4);
+}
+
+#[test]
+fn leave_one_season_out_on_one_season_says_why() {
+    let one = repo().join("tests/bad-input/season-short.csv");
+    refused(
+        &["backtest", &one.display().to_string()],
+        "leave-one-season-out needs at least two seasons (one to hold out, one to fit on); the data hold one season (2020)",
+    );
+}
+
+#[test]
+fn control_characters_never_reach_the_terminal_raw() {
+    // A file name with an OSC title sequence, and a header with a NUL and an ESC in it, both echoed
+    // by error messages: stderr shows them as \x1b, \x07, \x00.
+    let dir = tempfile::tempdir().unwrap();
+    let name = dir.path().join("evil\x1b]0;owned\x07.csv");
+    let out = runcal()
+        .args(["fit", &name.display().to_string()])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(!out.stderr.iter().any(|&b| b == 0x1b || b == 0x07 || b == 0));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("evil\\x1b]0;owned\\x07.csv"));
+    let f = dir.path().join("nul.csv");
+    std::fs::write(
+        &f,
+        "season,team,w,l,rs,ra,no\x00te\x1b[2J\n2020,Aces,9,7,80,70,x\n",
+    )
+    .unwrap();
+    let out = runcal()
+        .args(["fit", &f.display().to_string(), "--map", "wins=missing"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        !out.stderr.iter().any(|&b| b == 0x1b || b == 0),
+        "{:?}",
+        out.stderr
+    );
+    assert!(String::from_utf8_lossy(&out.stderr).contains("no\\x00te\\x1b[2J"));
+}

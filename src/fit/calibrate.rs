@@ -40,6 +40,17 @@ pub enum GroupRow {
     Fitted(usize),
     /// A group too small to fit, with its row count.
     TooSmall(Group, usize),
+    /// A group a model could not be fitted to (index into `Calibration::unfitted`).
+    NotFitted(usize),
+}
+
+/// A group a model could not be fitted to, and why; the other groups go on without it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct UnfittedGroup {
+    pub group: Group,
+    pub model: ModelKind,
+    pub rows: usize,
+    pub reason: String,
 }
 
 /// The data of the fit chart: the loss along the primary model's first parameter and the
@@ -62,6 +73,8 @@ pub struct Calibration {
     /// How far the second of `ranking` trails the first, in the loss.
     pub margin: Option<f64>,
     pub too_small: Vec<(Group, usize)>,
+    /// Groups (with `--by`) a model could not be fitted to.
+    pub unfitted: Vec<UnfittedGroup>,
     /// The grouped table's rows in group order (empty without `--by`).
     pub group_rows: Vec<GroupRow>,
     /// Every team-season under its own fit (each group's own with `--by`).
@@ -83,6 +96,7 @@ pub struct Calibration {
 pub fn calibrate(rows: &[TeamSeason], table: &Table, plan: &Plan) -> Result<Calibration, Error> {
     let mut fits: Vec<ModelFit> = Vec::new();
     let mut too_small = Vec::new();
+    let mut unfitted = Vec::new();
     let mut group_rows = Vec::new();
     let mut teams = Vec::new();
     // The primary fit's rows (a group's with --by) for the chart.
@@ -102,7 +116,20 @@ pub fn calibrate(rows: &[TeamSeason], table: &Table, plan: &Plan) -> Result<Cali
             let sub = table.subset(&idx);
             let sub_rows: Vec<TeamSeason> = idx.iter().map(|&i| rows[i].clone()).collect();
             for (j, &kind) in plan.models.iter().enumerate() {
-                let mut f = with_intervals(&sub, &sub_rows, kind, plan)?;
+                // One group that cannot be fitted is named and marked; the others go on.
+                let mut f = match with_intervals(&sub, &sub_rows, kind, plan) {
+                    Ok(f) => f,
+                    Err(e) => {
+                        group_rows.push(GroupRow::NotFitted(unfitted.len()));
+                        unfitted.push(UnfittedGroup {
+                            group: group.clone(),
+                            model: kind,
+                            rows: idx.len(),
+                            reason: e.to_string(),
+                        });
+                        continue;
+                    }
+                };
                 f.group = Some(group.clone());
                 if j == 0 {
                     if plan.team_lines {
@@ -118,8 +145,10 @@ pub fn calibrate(rows: &[TeamSeason], table: &Table, plan: &Plan) -> Result<Cali
         }
         if primary.is_none() {
             return Err(Error::Usage(format!(
-                "every group has fewer than --min-group {} team-seasons",
-                plan.min_group
+                "no group could be fitted: {} with fewer than --min-group {} team-seasons, {} that failed to fit",
+                too_small.len(),
+                plan.min_group,
+                unfitted.len()
             )));
         }
     } else {
@@ -167,6 +196,7 @@ pub fn calibrate(rows: &[TeamSeason], table: &Table, plan: &Plan) -> Result<Cali
         ranking,
         margin,
         too_small,
+        unfitted,
         group_rows,
         teams,
         teams_kind: primary.kind,

@@ -221,6 +221,7 @@ pub struct FitJson<'a> {
     loss: &'static str,
     fits: Vec<ModelFitJson<'a>>,
     too_small_groups: Vec<TooSmallJson<'a>>,
+    unfitted_groups: &'a [crate::fit::calibrate::UnfittedGroup],
 }
 
 pub fn fit(r: &FitReport) -> FitJson<'_> {
@@ -236,6 +237,7 @@ pub fn fit(r: &FitReport) -> FitJson<'_> {
             .iter()
             .map(|(group, rows)| TooSmallJson { group, rows: *rows })
             .collect(),
+        unfitted_groups: &r.calibration.unfitted,
     }
 }
 

@@ -277,6 +277,15 @@ fn grouped(r: &FitReport) -> String {
                 cells.push("too small to fit".into());
                 cells
             }
+            crate::fit::calibrate::GroupRow::NotFitted(i) => {
+                let u = &c.unfitted[*i];
+                let mut cells = vec![u.group.to_string(), u.model.to_string(), "-".into()];
+                cells.push("-".into());
+                cells.push(u.rows.to_string());
+                cells.extend(std::iter::repeat_n("-".to_string(), 4));
+                cells.push(format!("not fitted: {}", u.reason));
+                cells
+            }
         };
         t.add_row(cells);
     }

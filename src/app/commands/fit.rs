@@ -103,6 +103,12 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         chart: args.plot.is_some(),
     };
     let calibration = calibrate(&ds.rows, &table, &plan)?;
+    for u in &calibration.unfitted {
+        diag.warn(&format!(
+            "group {}: {}; marked as not fitted",
+            u.group, u.reason
+        ));
+    }
     for f in calibration.fits.iter().filter(|f| f.fitted) {
         let (kind, n, ok) = (f.model.kind, f.iterations, f.converged);
         diag.debug(&format!("{kind}: {n} iterations, converged {ok}"));
