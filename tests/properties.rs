@@ -1167,3 +1167,33 @@ fn all_tie_seasons_have_no_positive_exponent() {
         assert!(toward < 1e-3, "{l}: {text}");
     }
 }
+
+proptest! {
+    #![proptest_config(config())]
+
+    /// No control character or bidirectional override survives the escaping every message passes
+    /// through, and text without them is left as it was.
+    #[test]
+    fn escaped_messages_hold_no_control_characters(s in any::<String>()) {
+        let e = runcal::error::escape_controls(&s);
+        let hostile = |c: char| c.is_control() || ('\u{202a}'..='\u{202e}').contains(&c) || ('\u{2066}'..='\u{2069}').contains(&c);
+        prop_assert!(!e.chars().any(hostile), "{e:?}");
+        if !s.chars().any(hostile) && !s.contains('\u{200e}') && !s.contains('\u{200f}') {
+            prop_assert_eq!(e.as_ref(), s.as_str());
+        }
+    }
+
+    /// The projection's quantile, exact or by the normal approximation, lies in [0, n] and never
+    /// falls as the level rises, however long the season.
+    #[test]
+    fn projection_quantiles_are_ordered_and_bounded(
+        n in prop_oneof![0u64..30_000, 30_000u64..1_000_000_000_000u64],
+        a in 0.5f64..500.0,
+        b in 0.5f64..500.0,
+    ) {
+        let lo = runcal::luck::beta_binomial_quantile(n, a, b, 0.1);
+        let mid = runcal::luck::beta_binomial_quantile(n, a, b, 0.5);
+        let hi = runcal::luck::beta_binomial_quantile(n, a, b, 0.9);
+        prop_assert!(lo <= mid && mid <= hi && hi <= n, "{lo} {mid} {hi} of {n}");
+    }
+}

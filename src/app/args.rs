@@ -133,7 +133,9 @@ pub struct OutputArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = FormatArg::Table)]
     pub format: FormatArg,
-    /// Write the result to FILE (atomically) instead of stdout.
+    /// Write the result to FILE instead of stdout. A regular file is replaced atomically; through a
+    /// symbolic link, the file the link names is replaced and the link kept; a device or FIFO
+    /// (/dev/null, /proc/self/fd/1) is written in place. Never a file the run reads.
     #[arg(long, short = 'o', value_name = "FILE")]
     pub output: Option<String>,
     /// Print no warnings or progress on stderr.

@@ -77,7 +77,8 @@ pub struct Args {
     /// With --truth: each season's runs per game (both teams) is drawn uniformly from this range.
     #[arg(long, default_value = "6-12", value_name = "LO-HI", value_parser = parse_range)]
     pub rpg_range: (f64, f64),
-    /// Write to FILE (atomically) instead of stdout.
+    /// Write to FILE instead of stdout (atomically for a regular file; through a symbolic link the
+    /// file it names is replaced and the link kept; a device or FIFO is written in place).
     #[arg(long, alias = "output", short = 'o', value_name = "FILE")]
     pub out: Option<String>,
     /// csv (the data), json, or table (a readable listing of team-seasons).
