@@ -1,6 +1,8 @@
 //! Sizes, parameter domains and saved calibrations checked up front: each refusal exits 2 with a
 //! message naming the option or field, before any work; nothing panics, aborts or hangs.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 mod common;
 
 use std::path::Path;
@@ -117,11 +119,11 @@ fn option_values_outside_their_domain_are_refused() {
         ),
         (
             vec!["fit", &d, "--exponent", "-1"],
-            "must be a positive number, got -1",
+            "expected a positive number, got '-1'",
         ),
         (
             vec!["fit", &d, "--ci-level", "1.5", "--bootstrap", "10"],
-            "strictly between 0 and 1",
+            "expected a level between 0 and 1",
         ),
         (
             vec!["fit", &d, "--reference", "pythagorean:-1"],
@@ -137,11 +139,11 @@ fn option_values_outside_their_domain_are_refused() {
         ),
         (
             vec!["luck", &d, "--exponent", "-1"],
-            "must be a positive number",
+            "expected a positive number",
         ),
         (
             vec!["luck", &d, "--regress-games", "-5"],
-            "must be a non-negative number",
+            "expected a non-negative number",
         ),
         (
             vec!["luck", &d, "--season-games", "1000000000000"],
@@ -157,11 +159,11 @@ fn option_values_outside_their_domain_are_refused() {
         .to_string();
     refused(
         &["check", &d, "--profile", &p, "--max-mae", "-1"],
-        "must be a non-negative number",
+        "expected a non-negative number",
     );
     refused(
         &["check", &d, "--profile", &p, "--max-drift", "-3"],
-        "must be a positive number",
+        "expected a positive number",
     );
 }
 

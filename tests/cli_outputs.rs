@@ -2,6 +2,8 @@
 //! or hard link), never two outputs onto one file, devices and FIFOs written in place, symbolic links
 //! kept, no temporary file left behind by a signal, closed streams never a panic.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 mod common;
 
 use std::path::{Path, PathBuf};
