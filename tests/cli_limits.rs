@@ -11,10 +11,7 @@ use std::time::Duration;
 use common::{repo, runcal};
 
 fn demo() -> String {
-    repo()
-        .join("demo-data/meridian-league.csv")
-        .display()
-        .to_string()
+    common::demo_path()
 }
 
 fn demo_profile() -> serde_json::Value {
@@ -39,64 +36,41 @@ fn refused(args: &[&str], words: &str) {
 fn simulate_refuses_sizes_and_parameters_outside_its_limits() {
     for (args, words) in [
         (
-            vec!["--seasons", "1000000000000"],
+            "--seasons 1000000000000",
             "--seasons must lie from 1 to 100000",
         ),
+        ("--teams 100000000000", "--teams must lie from 1 to 10000"),
         (
-            vec!["--teams", "100000000000"],
-            "--teams must lie from 1 to 10000",
-        ),
-        (
-            vec!["--teams", "5000", "--seasons", "5000"],
+            "--teams 5000 --seasons 5000",
             "at most 5000000 team-seasons",
         ),
         (
-            vec!["--runs-per-game", "1e300"],
+            "--runs-per-game 1e300",
             "--runs-per-game must be positive and at most 1000",
         ),
+        ("--first-season 2147483647", "leave the years 1–9999"),
+        ("--first-season 9999 --game-log", "leave the years 1–9999"),
         (
-            vec!["--first-season", "2147483647"],
-            "leave the years 1–9999",
-        ),
-        (
-            vec!["--first-season", "9999", "--game-log"],
-            "leave the years 1–9999",
-        ),
-        (
-            vec![
-                "--first-season",
-                "9999",
-                "--seasons",
-                "1",
-                "--games",
-                "300",
-                "--game-log",
-            ],
+            "--first-season 9999 --seasons 1 --games 300 --game-log",
             "the last game would be played on 10000-",
         ),
         (
-            vec!["--truth", "pythagorean:-2"],
+            "--truth pythagorean:-2",
             "pythagorean exponent must be positive",
         ),
+        ("--truth pythagorean:2 --rpg-range 1-inf", "finite bounds"),
         (
-            vec!["--truth", "pythagorean:2", "--rpg-range", "1-inf"],
-            "finite bounds",
-        ),
-        (
-            vec!["--truth", "pythagorean:2", "--rpg-range", "1-1e9"],
+            "--truth pythagorean:2 --rpg-range 1-1e9",
             "--rpg-range must be",
         ),
         (
-            vec!["--exponent", "-1"],
+            "--exponent -1",
             "--exponent (the Weibull shape) must lie from 0.5 to 20",
         ),
-        (
-            vec!["--talent-sd", "50"],
-            "--talent-sd must lie from 0 to 1",
-        ),
+        ("--talent-sd 50", "--talent-sd must lie from 0 to 1"),
     ] {
         let mut a = vec!["simulate"];
-        a.extend(args);
+        a.extend(args.split_whitespace());
         refused(&a, words);
     }
 }
@@ -345,13 +319,7 @@ fn a_profile_that_is_not_a_small_regular_file_is_refused() {
     );
     // A FIFO with no writer would block an open() for ever: it is refused without opening it.
     let fifo = dir.path().join("fifo.json");
-    assert!(
-        std::process::Command::new("mkfifo")
-            .arg(&fifo)
-            .status()
-            .unwrap()
-            .success()
-    );
+    common::mkfifo(&fifo);
     let out = runcal()
         .args(["luck", &demo(), "--profile", &fifo.display().to_string()])
         .timeout(Duration::from_secs(30))

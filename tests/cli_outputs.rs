@@ -12,10 +12,7 @@ use std::time::{Duration, SystemTime};
 use common::{repo, runcal};
 
 fn demo() -> String {
-    repo()
-        .join("demo-data/meridian-league.csv")
-        .display()
-        .to_string()
+    common::demo_path()
 }
 
 fn tmpdir() -> tempfile::TempDir {
@@ -121,13 +118,7 @@ fn dev_null_is_written_in_place_not_replaced() {
 fn a_fifo_is_written_through() {
     let dir = tmpdir();
     let fifo = dir.path().join("pipe");
-    assert!(
-        std::process::Command::new("mkfifo")
-            .arg(&fifo)
-            .status()
-            .unwrap()
-            .success()
-    );
+    common::mkfifo(&fifo);
     let reader = {
         let f = fifo.clone();
         std::thread::spawn(move || std::fs::read_to_string(f).unwrap())

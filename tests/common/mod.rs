@@ -16,6 +16,23 @@ pub fn repo() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
 }
 
+/// The demo league's team-season history (fictional clubs, simulated).
+pub fn demo_path() -> String {
+    repo()
+        .join("demo-data/meridian-league.csv")
+        .display()
+        .to_string()
+}
+
+/// Make a FIFO at `path` (with the system's mkfifo).
+pub fn mkfifo(path: &std::path::Path) {
+    let ok = std::process::Command::new("mkfifo")
+        .arg(path)
+        .status()
+        .is_ok_and(|s| s.success());
+    assert!(ok, "mkfifo {}", path.display());
+}
+
 /// The Baseball Databank Teams table (CC BY-SA 3.0), trimmed by tests/reference/extract_databank.py.
 pub fn databank_path() -> String {
     repo()
