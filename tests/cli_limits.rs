@@ -179,11 +179,13 @@ fn a_million_game_season_projects_at_once() {
         .unwrap();
     assert_eq!(out.status.code(), Some(0));
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    let t = &v["teams"][0];
+    let t = &v["teams"][0]["outlook"];
     let (lo, hi) = (
-        t["projected_interval"][0].as_f64().unwrap(),
-        t["projected_interval"][1].as_f64().unwrap(),
+        t["range"][0].as_f64().unwrap(),
+        t["range"][1].as_f64().unwrap(),
     );
+    // The normal approximation's range holds its level.
+    assert!((t["range_mass"].as_f64().unwrap() - 0.8).abs() < 1e-3);
     assert!(lo < hi && hi <= 1_000_000.0, "{lo} {hi}");
 }
 
