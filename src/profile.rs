@@ -337,6 +337,9 @@ impl Profile {
         if let Some(k) = self.regression_games {
             non_negative("regression_games", k)?;
         }
+        if let Some(k) = self.run_based_regression_games {
+            non_negative("run_based_regression_games", k)?;
+        }
         if let Some(d) = self.dispersion {
             positive("dispersion", d)?;
         }

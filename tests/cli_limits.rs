@@ -220,6 +220,11 @@ fn every_profile_field_is_checked_on_load() {
             "\"regression_games\" must be a non-negative",
         ),
         (
+            "/run_based_regression_games",
+            serde_json::json!(-1.0),
+            "\"run_based_regression_games\"",
+        ),
+        (
             "/std_errors/exponent",
             serde_json::json!(-0.1),
             "\"std_errors.exponent\" must be a non-negative",
