@@ -128,6 +128,9 @@ enum Target {
 fn target(path: &str) -> Result<Target, Error> {
     let p = Path::new(path);
     let refuse = |why: &str| Err(Error::Usage(format!("cannot write {path}: {why}")));
+    if path.is_empty() {
+        return Err(Error::Usage("cannot write to an empty path".to_string()));
+    }
     // A path through /proc/self/fd or /dev/fd names an open descriptor (often stdout): renaming
     // over it would replace whatever file the descriptor's owner had open.
     let descriptor = ["/proc/self/fd/", "/dev/fd/", "/dev/stdout", "/dev/stderr"]

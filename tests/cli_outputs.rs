@@ -167,7 +167,7 @@ fn proc_self_fd_1_writes_to_stdout() {
 }
 
 #[test]
-fn a_directory_is_refused() {
+fn a_directory_or_an_empty_path_is_refused() {
     let dir = tmpdir();
     let out = runcal()
         .args(["fit", &demo(), "-o", &s(dir.path())])
@@ -175,6 +175,9 @@ fn a_directory_is_refused() {
         .unwrap();
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("is a directory"));
+    let out = runcal().args(["fit", &demo(), "-o", ""]).output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("cannot write to an empty path"));
 }
 
 /// Start a long `simulate --out`, wait for its temporary file, send `signal`, and check that the
