@@ -7,6 +7,7 @@
 
 pub mod balance;
 pub mod data;
+pub mod digest;
 pub mod error;
 pub mod fit;
 pub mod gate;

@@ -415,9 +415,19 @@ fn luck_plot_is_an_svg_with_labelled_extremes() {
         .success();
     let text = std::fs::read_to_string(&svg).unwrap();
     assert!(text.starts_with("<svg"));
-    assert!(text.contains("actual = expected"));
+    assert!(text.contains("above line: ahead of runs"));
     assert!(
-        text.contains("2026 ("),
-        "extreme teams are labelled with season and luck"
+        text.contains("\u{2069} (+") && text.contains("\u{2069} (-"),
+        "extreme teams are labelled with their wins over expected"
     );
+    // The title names the calibration; the ticks are written as the tables write win% (.600).
+    assert!(text.contains("Wins against scoring"));
+    assert!(text.contains("calibration demo-data/meridian-profile.json"));
+    assert!(
+        text.contains(">\n.600\n<") || text.contains(">.600<"),
+        "win% ticks as .600"
+    );
+    assert!(!text.contains("0.600"));
+    // The caution is the chart's footnote.
+    assert!(text.contains("runcal reports descriptive statistics."));
 }

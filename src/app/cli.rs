@@ -26,6 +26,7 @@ pub enum Command {
     Luck(commands::luck::Args),
     Backtest(commands::backtest::Args),
     Check(commands::check::Args),
+    Digest(commands::digest::Args),
     Simulate(commands::simulate::Args),
     /// Print a shell completion script to stdout.
     Completions {

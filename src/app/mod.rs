@@ -18,6 +18,7 @@ pub fn run(cli: cli::Cli) -> Result<u8> {
         Command::Luck(a) => commands::luck::run(&a),
         Command::Backtest(a) => commands::backtest::run(&a),
         Command::Check(a) => commands::check::run(&a),
+        Command::Digest(a) => commands::digest::run(&a),
         Command::Simulate(a) => commands::simulate::run(&a),
         Command::Completions { shell } => {
             let mut cmd = <cli::Cli as clap::CommandFactory>::command();

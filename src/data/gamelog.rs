@@ -37,6 +37,32 @@ impl Date {
         Some(Date { year, month, day })
     }
 
+    /// The date `n` days earlier (proleptic Gregorian calendar).
+    pub fn days_earlier(self, n: u32) -> Date {
+        let mut d = self;
+        for _ in 0..n {
+            d = if d.day > 1 {
+                Date {
+                    day: d.day - 1,
+                    ..d
+                }
+            } else if d.month > 1 {
+                Date {
+                    month: d.month - 1,
+                    day: days_in_month(d.year, d.month - 1),
+                    ..d
+                }
+            } else {
+                Date {
+                    year: d.year - 1,
+                    month: 12,
+                    day: 31,
+                }
+            };
+        }
+        d
+    }
+
     fn packed(self) -> u32 {
         (self.year as u32) << 9 | u32::from(self.month) << 5 | u32::from(self.day)
     }

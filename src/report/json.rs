@@ -216,6 +216,7 @@ struct TooSmallJson<'a> {
 #[derive(Serialize)]
 pub struct FitJson<'a> {
     schema: &'static str,
+    caution: &'static str,
     rows_used: usize,
     rows_rejected: usize,
     loss: &'static str,
@@ -227,6 +228,7 @@ pub struct FitJson<'a> {
 pub fn fit(r: &FitReport) -> FitJson<'_> {
     FitJson {
         schema: "runcal.fit/1",
+        caution: crate::CAUTION,
         rows_used: r.rows_used,
         rows_rejected: r.rows_rejected,
         loss: r.loss.name(),

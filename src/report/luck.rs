@@ -4,8 +4,9 @@
 
 use serde::Serialize;
 
+use super::Grid;
 use super::json::{Num, Pair, named, to_bytes};
-use super::table::folded_table;
+use super::table::grid_table;
 use super::{LuckReport, ModelSource, csv as csvfmt, num, pct, record, signed};
 use crate::error::Error;
 use crate::luck::{Family, LuckLine, NOTABLE_Z, Noise, Signal};
@@ -29,6 +30,19 @@ fn optional(v: Option<f64>, f: impl Fn(f64) -> String) -> String {
 
 pub fn table(r: &LuckReport) -> String {
     let mut out = heading(r);
+    let (t, folded) = grid_table(&grid(r));
+    for (name, value) in folded {
+        out.push_str(&format!("{name}: {value}\n"));
+    }
+    out.push_str(&t.to_string());
+    out.push('\n');
+    out.push_str(&footnotes(r));
+    out
+}
+
+/// The luck table's columns and cells: the terminal table and the weekly document lay out these.
+/// A header "group\ncolumn" opens a group of columns; "\ncolumn" continues it.
+pub fn grid(r: &LuckReport) -> Grid {
     let with_one_run = r.teams.iter().any(|l| l.one_run.is_some());
     let level = r.outlook.map(|o| o.level);
     let range_label = format!("\n{:.0}% range", level.unwrap_or(0.0) * 100.0);
@@ -97,19 +111,12 @@ pub fn table(r: &LuckReport) -> String {
             row
         })
         .collect();
-    let (t, folded) = folded_table(
-        &header,
-        &rows,
-        &["season", "league", "team", "\nreading"],
-        &["season", "league"],
-    );
-    for (name, value) in folded {
-        out.push_str(&format!("{name}: {value}\n"));
+    Grid {
+        header: Grid::names(&header),
+        rows,
+        text: Grid::names(&["season", "league", "team", "\nreading"]),
+        fold: Grid::names(&["season", "league"]),
     }
-    out.push_str(&t.to_string());
-    out.push('\n');
-    out.push_str(&footnotes(r));
-    out
 }
 
 fn heading(r: &LuckReport) -> String {
@@ -305,7 +312,7 @@ struct OutlookJson {
 
 /// `runcal.luck/2`.
 #[derive(Serialize)]
-struct LuckJson<'a> {
+pub struct LuckJson<'a> {
     schema: &'static str,
     caution: &'static str,
     model: &'static str,
@@ -361,7 +368,12 @@ fn team_json(l: &LuckLine) -> TeamJson<'_> {
 }
 
 pub fn json(r: &LuckReport) -> Result<Vec<u8>, Error> {
-    to_bytes(&LuckJson {
+    to_bytes(&luck_json(r))
+}
+
+/// The `runcal.luck/2` object (the weekly document's JSON embeds it).
+pub fn luck_json(r: &LuckReport) -> LuckJson<'_> {
+    LuckJson {
         schema: SCHEMA,
         caution: crate::CAUTION,
         model: r.model.kind.name(),
@@ -383,5 +395,5 @@ pub fn json(r: &LuckReport) -> Result<Vec<u8>, Error> {
             range_level: Num(o.level),
         }),
         teams: r.teams.iter().map(team_json).collect(),
-    })
+    }
 }

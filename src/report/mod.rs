@@ -2,6 +2,8 @@
 //! statistic.
 
 pub mod csv;
+pub mod document;
+pub mod grid;
 pub mod json;
 pub mod luck;
 pub mod svg;
@@ -38,6 +40,7 @@ pub fn render(report: &dyn Report, format: Format) -> Result<Vec<u8>, Error> {
 }
 
 pub use crate::luck::TeamLine;
+pub use grid::Grid;
 
 /// Records as "W-L" or "W-L-T".
 pub fn record(w: u64, l: u64, t: u64) -> String {
@@ -95,7 +98,10 @@ impl Report for FitReport {
     }
     fn svg(&self) -> Option<Result<Vec<u8>, Error>> {
         let c = &self.calibration;
-        c.chart.as_ref().map(svg::fit_chart)
+        c.chart.as_ref().map(|chart| {
+            let frame = svg::Frame::fit(c.teams_kind.name(), chart, self.rows_used, self.seasons);
+            svg::fit_chart(chart, &frame)
+        })
     }
 }
 
@@ -136,9 +142,10 @@ impl Report for LuckReport {
         luck::csv(self)
     }
     fn svg(&self) -> Option<Result<Vec<u8>, Error>> {
-        self.chart_labels
-            .as_ref()
-            .map(|labels| svg::luck_chart(&self.teams, labels))
+        self.chart_labels.as_ref().map(|labels| {
+            let frame = svg::Frame::luck(&self.model, &self.source, self.as_of);
+            svg::luck_chart(&self.teams, labels, &frame).map(String::into_bytes)
+        })
     }
 }
 

@@ -2,7 +2,7 @@
 
 use comfy_table::{CellAlignment, Table, presets};
 
-use super::{FitReport, TeamLine, num, pct, record, signed};
+use super::{FitReport, Grid, TeamLine, num, pct, record, signed};
 use crate::fit::ModelFit;
 
 /// An empty table in the house style.
@@ -32,24 +32,24 @@ pub fn folded_table(
     left: &[&str],
     fold: &[&str],
 ) -> (Table, Vec<(String, String)>) {
-    let keep: Vec<usize> = (0..header.len())
-        .filter(|&c| {
-            !(fold.contains(&header[c])
-                && !rows.is_empty()
-                && rows.iter().all(|r| r[c] == rows[0][c]))
-        })
-        .collect();
-    let folded = (0..header.len())
-        .filter(|c| !keep.contains(c))
-        .map(|c| (header[c].to_string(), rows[0][c].clone()))
-        .collect();
+    grid_table(&Grid {
+        header: Grid::names(header),
+        rows: rows.to_vec(),
+        text: Grid::names(left),
+        fold: Grid::names(fold),
+    })
+}
+
+/// A grid as a terminal table, its constant foldable columns returned for the caption.
+pub fn grid_table(grid: &Grid) -> (Table, Vec<(String, String)>) {
+    let (g, folded) = grid.folded();
     let mut t = styled();
-    t.set_header(keep.iter().map(|&c| header[c]));
-    for r in rows {
-        t.add_row(keep.iter().map(|&c| r[c].clone()));
+    t.set_header(g.header.iter());
+    for r in &g.rows {
+        t.add_row(r.iter());
     }
     for (i, col) in t.column_iter_mut().enumerate() {
-        if !left.contains(&header[keep[i]]) {
+        if !g.is_text(i) {
             col.set_cell_alignment(CellAlignment::Right);
         }
     }

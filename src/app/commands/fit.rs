@@ -70,6 +70,7 @@ pub struct Args {
 }
 
 pub fn run(args: &Args) -> Result<u8, Error> {
+    super::caution_for_csv(&args.output);
     let diag = super::diagnostics(&args.output);
     let files = &args.input.files;
     super::guard_outputs(

@@ -59,6 +59,7 @@ pub struct Args {
 }
 
 pub fn run(args: &Args) -> Result<u8, Error> {
+    super::caution_for_csv(&args.output);
     let diag = super::diagnostics(&args.output);
     let files = &super::reads(&args.input.files, &[args.profile.as_ref()]);
     super::guard_outputs(

@@ -2,6 +2,7 @@
 
 pub mod backtest;
 pub mod check;
+pub mod digest;
 pub mod fit;
 pub mod luck;
 pub mod simulate;
@@ -29,10 +30,20 @@ pub fn load(
     as_of: Option<Date>,
     diag: &Diagnostics,
 ) -> Result<(Dataset, Table), Error> {
+    let (ds, table) = load_any(input, as_of, diag)?;
+    ds.require_rows(&input.files.join(", "))?;
+    Ok((ds, table))
+}
+
+/// [`load`], accepting inputs that leave no rows.
+pub fn load_any(
+    input: &InputArgs,
+    as_of: Option<Date>,
+    diag: &Diagnostics,
+) -> Result<(Dataset, Table), Error> {
     let mut ds = data::load(&input.files, input.games, as_of, &input.load_options())?;
     data::table::decided_rows(&mut ds, input.tie_policy(), input.skip_invalid)?;
     diag.dataset(&ds);
-    ds.require_rows(&input.files.join(", "))?;
     let table = Table::new(&ds.rows, input.tie_policy(), input.weighting());
     Ok((ds, table))
 }
@@ -44,6 +55,14 @@ pub fn warn_unbalanced(input: &InputArgs, ds: &Dataset, diag: &Diagnostics) {
         for w in runcal::balance::warnings(&ds.rows, runcal::balance::WARN_IMBALANCE) {
             diag.warn(&w);
         }
+    }
+}
+
+/// CSV has no place for the caution, so an output of luck or projections as CSV prints it as the
+/// first line on stderr (also with -q: it is not a warning).
+pub fn caution_for_csv(out: &OutputArgs) {
+    if out.format == crate::app::args::FormatArg::Csv {
+        runcal::output::stderr_line(&format!("note: {}", runcal::CAUTION));
     }
 }
 
