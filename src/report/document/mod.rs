@@ -114,9 +114,9 @@ fn mover_sentences(d: &Digest) -> Vec<Vec<Span>> {
         .iter()
         .map(|m| {
             let c = &m.change;
-            // The tables write wins over expected with its sign; projected wins without.
+            // The tables write wins vs expected with its sign; projected wins without.
             let (what, value): (&str, fn(f64) -> String) = match m.measure {
-                Measure::WinsOverExpected => ("wins over expected", |v| signed(v, 1)),
+                Measure::WinsOverExpected => ("wins vs expected", |v| signed(v, 1)),
                 Measure::ProjectedWins => ("projected wins", |v| num(v, 1)),
             };
             let verb = if c.change > 0.0 { "rose" } else { "fell" };
@@ -149,9 +149,9 @@ fn week_grid(d: &Digest) -> Grid {
             "team",
             "games then",
             "games now",
-            "wins over expected then",
-            "wins over expected now",
-            "change in wins over expected",
+            "wins vs expected then",
+            "wins vs expected now",
+            "change in wins vs expected",
             "projected wins then",
             "projected wins now",
             "change in projection",
@@ -222,7 +222,7 @@ pub fn charts(d: &Digest) -> Result<Vec<Chart>, Error> {
     let mut out = vec![Chart {
         name: "luck",
         svg: luck,
-        caption: "Each dot is a club: actual win% against the win% its runs predict. Clubs above the line have won more than their scoring predicts; the labels give wins over expected.".to_string(),
+        caption: "Each dot is a club: actual win% against the win% its runs predict. Clubs above the line have won more than their scoring predicts; the labels give wins vs expected.".to_string(),
     }];
     if !d.outlook.is_empty() {
         let bars: Vec<OutlookBar> = d
@@ -248,9 +248,9 @@ pub fn charts(d: &Digest) -> Result<Vec<Chart>, Error> {
 }
 
 const METHODS: &[&str] = &[
-    "Expected win% comes from each club's runs scored and allowed under the saved calibration (the model and parameters named below, fitted on the seasons it names). Wins over expected is actual wins (ties as half) minus games decided times expected win%.",
-    "The z-score divides wins over expected by the binomial spread of a club's decided games; a club at |z| of 2 or more is marked in the luck table. Over a short stretch most of the gap is noise.",
-    "The projection adds to the wins so far the remaining games times expected win% regressed toward .500 by the calibration's regression games; its 80% range comes from a beta-binomial distribution with the same centre.",
+    "Expected win% comes from each club's runs scored and allowed under the saved calibration (the model and parameters named below, fitted on the seasons it names). Wins vs expected is actual wins (ties as half) minus games decided times expected win%.",
+    "The gap in SD divides wins vs expected by its noise, the square root of dispersion × games decided × p̂(1 − p̂): win records scatter around their scoring with less than coin-flip variance, and the calibration's dispersion says how much less. A club 2 SD or more from its scoring is marked in the luck table, and called beyond chance when its p-value, adjusted by Holm's method over the clubs shown, stays small. Over a short stretch most gaps are noise.",
+    "The outlook adds to the wins so far the remaining games times the run-based win% regressed toward .500 by the calibration's regression games; its range comes from a beta-binomial distribution with the same centre, and the luck table gives the probability the range actually holds.",
     "Week-over-week columns repeat the same calculation with only the games played on or before the comparison date; nothing is stored between weeks.",
 ];
 
@@ -273,7 +273,7 @@ pub fn lay_out(d: &Digest, charts: &[Chart], m: &mut dyn Markup) {
             d.compare_to
         ))]),
         Some(_) if d.movers.is_empty() => m.paragraph(&[text(format!(
-            "No club's wins over expected or projection moved by {} win or more since {}.",
+            "No club's wins vs expected or projection moved by {} win or more since {}.",
             num(crate::digest::SMALLEST_MOVE * 2.0, 1),
             d.compare_to
         ))]),
@@ -286,7 +286,7 @@ pub fn lay_out(d: &Digest, charts: &[Chart], m: &mut dyn Markup) {
     m.heading("luck", "Luck table");
     m.table(
         "luck-table",
-        "Clubs ordered by wins over expected: most ahead of their scoring first.",
+        "Clubs ordered by wins vs expected: most ahead of their scoring first.",
         &super::luck::grid(&luck_report(d, &d.current)),
     );
     if let Some(c) = charts.iter().find(|c| c.name == "luck") {
@@ -297,7 +297,7 @@ pub fn lay_out(d: &Digest, charts: &[Chart], m: &mut dyn Markup) {
     m.table(
         "change-table",
         &format!(
-            "Then: games through {}; now: games through {}. Ordered by the change in wins over expected.",
+            "Then: games through {}; now: games through {}. Ordered by the change in wins vs expected.",
             d.compare_to, d.current.as_of
         ),
         &week_grid(d),
