@@ -351,3 +351,65 @@ impl Calibration {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn date(s: &str) -> Date {
+        s.parse().unwrap()
+    }
+
+    #[test]
+    fn a_week_earlier_crosses_months_years_and_leap_days() {
+        // Calendar facts (GNU `date -d '2026-03-03 - 7 days'` prints 2026-02-24).
+        assert_eq!(date("2026-03-03").days_earlier(WEEK), date("2026-02-24"));
+        assert_eq!(date("2024-03-01").days_earlier(1), date("2024-02-29"));
+        assert_eq!(date("2026-01-03").days_earlier(WEEK), date("2025-12-27"));
+        assert_eq!(date("2026-07-15").days_earlier(0), date("2026-07-15"));
+    }
+
+    fn change(club: &str, woe: Option<f64>, proj: Option<f64>) -> ClubChange {
+        let c = |v: f64| Change::between(0.0, v);
+        ClubChange {
+            club: Club {
+                season: 2026,
+                league: None,
+                team: club.to_string(),
+            },
+            games_before: 1,
+            games_after: 2,
+            wins_over_expected: woe.map(c),
+            projected_wins: proj.map(c),
+        }
+    }
+
+    #[test]
+    fn movers_are_the_largest_absolute_changes_of_each_measure() {
+        let cs = vec![
+            change("A", Some(0.5), Some(-3.0)),
+            change("B", Some(-2.0), Some(0.01)),
+            change("C", Some(1.0), None),
+            change("D", Some(0.04), Some(1.0)),
+            change("E", None, Some(2.0)),
+        ];
+        let m = movers(&cs);
+        let names: Vec<(&str, &str)> = m
+            .iter()
+            .map(|m| (m.measure.name(), m.club.team.as_str()))
+            .collect();
+        // Common practice for "biggest movers": by size of the change, either direction; a change
+        // that prints as 0.0 is no move.
+        assert_eq!(
+            names,
+            vec![
+                ("wins_over_expected", "B"),
+                ("wins_over_expected", "C"),
+                ("wins_over_expected", "A"),
+                ("projected_wins", "A"),
+                ("projected_wins", "E"),
+                ("projected_wins", "D"),
+            ]
+        );
+    }
+}

@@ -47,3 +47,26 @@ impl Grid {
         (grid, folded)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn constant_columns_fold_into_the_caption() {
+        let g = Grid {
+            header: Grid::names(&["season", "league", "team"]),
+            rows: vec![
+                vec!["2026".into(), "-".into(), "A".into()],
+                vec!["2026".into(), "-".into(), "B".into()],
+            ],
+            text: Grid::names(&["team"]),
+            fold: Grid::names(&["season", "league"]),
+        };
+        let (kept, folded) = g.folded();
+        assert_eq!(kept.header, vec!["team".to_string()]);
+        // A column of "-" says nothing and leaves no caption entry.
+        assert_eq!(folded, vec![("season".to_string(), "2026".to_string())]);
+        assert!(kept.is_text(0));
+    }
+}

@@ -51,18 +51,18 @@ pub struct Args {
     /// Go on past bad rows: list each on stderr and count it as rejected.
     #[arg(long)]
     pub skip_invalid: bool,
-    /// The document's format.
-    #[arg(long, value_enum, default_value_t = DocFormatArg::Html)]
-    pub format: DocFormatArg,
-    /// Write the document to FILE (atomically) instead of stdout; Markdown needs it for its charts.
-    #[arg(long, short = 'o', value_name = "FILE")]
-    pub output: Option<String>,
     /// Print no warnings on stderr.
     #[arg(long, short = 'q')]
     pub quiet: bool,
     /// Print diagnostics on stderr.
     #[arg(long, short = 'v')]
     pub verbose: bool,
+    /// The document's format.
+    #[arg(long, value_enum, default_value_t = DocFormatArg::Html)]
+    pub format: DocFormatArg,
+    /// Write the document to FILE (atomically) instead of stdout; Markdown needs it for its charts.
+    #[arg(long, short = 'o', value_name = "FILE")]
+    pub output: Option<String>,
 }
 
 /// The document's format.

@@ -196,3 +196,26 @@ impl Markup for Page {
         self.parts.push(html! { footer { (visible(text)) } });
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn header_groups_span_their_columns() {
+        let h: Vec<String> = ["team", "the gap\nwins", "\nz", "evidence\nruns", "\nrecord"]
+            .iter()
+            .map(|s| s.to_string())
+            .collect();
+        assert_eq!(
+            column_groups(&h),
+            vec![
+                (String::new(), 1),
+                ("the gap".to_string(), 2),
+                ("evidence".to_string(), 2)
+            ]
+        );
+        assert_eq!(column_label("the gap\nwins"), "wins");
+        assert_eq!(column_label("team"), "team");
+    }
+}

@@ -65,6 +65,18 @@ struct WeekJson<'a> {
     projected_wins: Option<ChangeJson>,
 }
 
+impl<'a> From<&'a crate::digest::ClubChange> for WeekJson<'a> {
+    fn from(w: &'a crate::digest::ClubChange) -> WeekJson<'a> {
+        WeekJson {
+            club: club(&w.club),
+            games_before: w.games_before,
+            games_after: w.games_after,
+            wins_over_expected: change(w.wins_over_expected),
+            projected_wins: change(w.projected_wins),
+        }
+    }
+}
+
 #[derive(Serialize)]
 struct MoverJson<'a> {
     measure: &'static str,
@@ -72,6 +84,16 @@ struct MoverJson<'a> {
     club: ClubJson<'a>,
     #[serde(flatten)]
     change: Option<ChangeJson>,
+}
+
+impl<'a> From<&'a crate::digest::Mover> for MoverJson<'a> {
+    fn from(m: &'a crate::digest::Mover) -> MoverJson<'a> {
+        MoverJson {
+            measure: m.measure.name(),
+            club: club(&m.club),
+            change: change(Some(m.change)),
+        }
+    }
 }
 
 #[derive(Serialize)]
@@ -136,26 +158,8 @@ pub fn digest<'a>(
             .collect(),
         luck: luck(now),
         luck_before: before.map(luck),
-        week: d
-            .changes
-            .iter()
-            .map(|w| WeekJson {
-                club: club(&w.club),
-                games_before: w.games_before,
-                games_after: w.games_after,
-                wins_over_expected: change(w.wins_over_expected),
-                projected_wins: change(w.projected_wins),
-            })
-            .collect(),
-        movers: d
-            .movers
-            .iter()
-            .map(|m| MoverJson {
-                measure: m.measure.name(),
-                club: club(&m.club),
-                change: change(Some(m.change)),
-            })
-            .collect(),
+        week: d.changes.iter().map(WeekJson::from).collect(),
+        movers: d.movers.iter().map(MoverJson::from).collect(),
         projection_interval_level: crate::luck::RANGE_LEVEL,
         outlook: d
             .outlook

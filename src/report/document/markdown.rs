@@ -154,3 +154,23 @@ impl Markup for Document {
         self.block(&format!("---\n\n{}", escape(text)));
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn markdown_metacharacters_are_escaped() {
+        // GitHub-flavoured Markdown: `|` ends a table cell, backticks open code, * and _ emphasis.
+        assert_eq!(escape("Pipe | Club"), "Pipe \\| Club");
+        assert_eq!(escape("`x` *y* _z_"), "\\`x\\` \\*y\\* \\_z\\_");
+        assert_eq!(escape("<b>&</b>"), "&lt;b&gt;&amp;&lt;/b&gt;");
+        assert_eq!(escape("two\nlines"), "two lines");
+        assert_eq!(escape("bell\u{7}"), "bell\u{fffd}");
+        assert_eq!(line_start("- x".into()), "\\- x");
+        assert_eq!(line_start("1. x".into()), "1\\. x");
+        assert_eq!(line_start("# x".into()), "\\# x");
+        assert_eq!(header_label("the gap\nwins"), "the gap: wins");
+        assert_eq!(header_label("\np"), "p");
+    }
+}
