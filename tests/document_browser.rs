@@ -292,12 +292,36 @@ fn demo_document_renders_on_a_phone_with_nothing_fetched() {
                "clip": {"x": 0, "y": 0, "width": WIDTH, "height": height, "scale": 1}}),
     );
     save_png(&out.join("meridian-week-full.png"), &full["data"]);
-    let pdf = b.call(s, "Page.printToPDF", json!({}));
+    // Paper: the print stylesheet asks for A4 across; on its text width (29.7 cm less 2 × 1 cm
+    // margins, at 96 CSS pixels per inch: 1047 px) nothing runs past the edge.
+    b.call(s, "Emulation.setEmulatedMedia", json!({"media": "print"}));
+    b.call(
+        s,
+        "Emulation.setDeviceMetricsOverride",
+        json!({"width": 1047, "height": 1000, "deviceScaleFactor": 1, "mobile": false}),
+    );
+    let printed = b.evaluate(
+        &session,
+        "JSON.stringify([document.documentElement.scrollWidth, document.documentElement.clientWidth])",
+    );
+    let printed: Vec<u64> = serde_json::from_str(printed.as_str().unwrap()).unwrap();
+    let paper = b.call(
+        s,
+        "Page.captureScreenshot",
+        json!({"format": "png", "captureBeyondViewport": true,
+               "clip": {"x": 0, "y": 0, "width": 1047, "height": 2400, "scale": 1}}),
+    );
+    save_png(&out.join("meridian-week-print.png"), &paper["data"]);
+    let pdf = b.call(s, "Page.printToPDF", json!({"preferCSSPageSize": true}));
     assert!(
         pdf["data"].as_str().is_some_and(|d| d.len() > 1000),
         "printing failed"
     );
 
+    assert_eq!(
+        printed[0], printed[1],
+        "printed page runs past the paper's edge: {printed:?}"
+    );
     // The page is laid out at the phone's width, and nothing in it is wider than the screen.
     assert_eq!(facts["innerWidth"], json!(WIDTH), "{facts}");
     assert_eq!(
