@@ -185,6 +185,19 @@ pub fn file_fingerprint(path: &str) -> Result<String, Error> {
     Ok(format!("fnv1a64:{h:016x}"))
 }
 
+/// Each input file with its fingerprint.
+pub fn sources(files: &[String]) -> Result<Vec<SourceFile>, Error> {
+    files
+        .iter()
+        .map(|f| {
+            Ok(SourceFile {
+                path: f.clone(),
+                fingerprint: file_fingerprint(f)?,
+            })
+        })
+        .collect()
+}
+
 fn changes(current: &Snapshot, previous: Option<&Snapshot>) -> Vec<ClubChange> {
     let before = |club: &Club| previous.and_then(|p| p.lines.iter().find(|l| Club::of(l) == *club));
     let mut out: Vec<ClubChange> = current

@@ -311,6 +311,30 @@ fn bad_options_are_usage_errors() {
         .assert()
         .code(2)
         .stderr(predicates::str::contains("regular file"));
+    // A named pipe could be read only once.
+    let fifo = dir.path().join("games.fifo");
+    if std::process::Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .is_ok_and(|s| s.success())
+    {
+        runcal()
+            .args(["digest"])
+            .arg(&fifo)
+            .args(["--profile", PROFILE, "--as-of", "2026-07-15"])
+            .assert()
+            .code(2)
+            .stderr(predicates::str::contains("regular file"));
+    }
+    // A game log with a header and no games: nothing to report, said so.
+    let empty = dir.path().join("empty.csv");
+    std::fs::write(&empty, "date,home,away,home_score,away_score\n").unwrap();
+    runcal()
+        .args(["digest"])
+        .arg(&empty)
+        .args(["--profile", PROFILE, "--as-of", "2026-07-15"])
+        .assert()
+        .code(2);
     // The document never replaces an input, the profile included.
     runcal()
         .args(base)

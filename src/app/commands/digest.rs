@@ -4,7 +4,7 @@ use clap::ValueEnum;
 
 use crate::app::args::{InputArgs, TiesArg, WeightArg};
 use runcal::data::{Mapping, gamelog::Date};
-use runcal::digest::{self, Calibration, SourceFile};
+use runcal::digest::{self, Calibration};
 use runcal::error::Error;
 use runcal::output::Diagnostics;
 use runcal::profile::Profile;
@@ -115,11 +115,8 @@ fn require_regular_files(files: &[String]) -> Result<(), Error> {
     Ok(())
 }
 
-pub fn run(args: &Args) -> Result<u8, Error> {
-    let diag = Diagnostics {
-        quiet: args.quiet,
-        verbose: args.verbose,
-    };
+/// The comparison date, after the checks that need no input read.
+fn compare_date(args: &Args) -> Result<Date, Error> {
     let compare_to = args
         .compare_to
         .unwrap_or_else(|| args.as_of.days_earlier(digest::WEEK));
@@ -135,22 +132,12 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         ));
     }
     require_regular_files(&args.files)?;
-    let (dir, stem) = placement(args.output.as_deref());
-    let charts = ["luck", "outlook"].map(|c| format!("{dir}{stem}-{c}.svg"));
-    let outputs = [
-        ("--output", args.output.as_ref()),
-        ("a chart", Some(&charts[0])),
-        ("a chart", Some(&charts[1])),
-    ];
-    let mut inputs = args.files.clone();
-    inputs.push(args.profile.clone());
-    super::guard_outputs(&outputs, &inputs)?;
+    Ok(compare_to)
+}
 
-    let profile = Profile::load(&args.profile)?;
-    if profile.dispersion.is_none() {
-        diag.warn("the profile saves no dispersion (a log-loss fit saves one); luck z uses one measured on the game log");
-    }
-    let input = InputArgs {
+/// The game logs read the way the calibration defines win% and weights.
+fn input_of(args: &Args, profile: &Profile) -> InputArgs {
+    InputArgs {
         files: args.files.clone(),
         games: true,
         maps: args.maps.clone(),
@@ -161,7 +148,31 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         skip_invalid: args.skip_invalid,
         max_rows: 50_000_000,
     }
-    .as_in_profile(&profile);
+    .as_in_profile(profile)
+}
+
+pub fn run(args: &Args) -> Result<u8, Error> {
+    let diag = Diagnostics {
+        quiet: args.quiet,
+        verbose: args.verbose,
+    };
+    let compare_to = compare_date(args)?;
+    let (dir, stem) = placement(args.output.as_deref());
+    let charts = ["luck", "outlook"].map(|c| format!("{dir}{stem}-{c}.svg"));
+    let mut inputs = args.files.clone();
+    inputs.push(args.profile.clone());
+    let outputs = [
+        ("--output", args.output.as_ref()),
+        ("a chart", Some(&charts[0])),
+        ("a chart", Some(&charts[1])),
+    ];
+    super::guard_outputs(&outputs, &inputs)?;
+
+    let profile = Profile::load(&args.profile)?;
+    if profile.dispersion.is_none() {
+        diag.warn("the profile saves no dispersion (a log-loss fit saves one); luck z uses one measured on the game log");
+    }
+    let input = input_of(args, &profile);
     let snapshot = |date: Date, diag: &Diagnostics| -> Result<Option<digest::Snapshot>, Error> {
         let (ds, table) = super::load_any(&input, Some(date), diag)?;
         if ds.rows.is_empty() {
@@ -170,11 +181,8 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         digest::snapshot(&ds, &table, &profile, date).map(Some)
     };
     let current = snapshot(args.as_of, &diag)?.ok_or_else(|| {
-        Error::Usage(format!(
-            "no games on or before {} in {}",
-            args.as_of,
-            args.files.join(", ")
-        ))
+        let files = args.files.join(", ");
+        Error::Usage(format!("no games on or before {} in {files}", args.as_of))
     })?;
     // The earlier date's rows are a subset of these: its rejections were reported just now.
     let quiet = Diagnostics {
@@ -182,23 +190,9 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         verbose: false,
     };
     let previous = snapshot(compare_to, &quiet)?;
-    let sources = args
-        .files
-        .iter()
-        .map(|f| {
-            Ok(SourceFile {
-                path: f.clone(),
-                fingerprint: digest::file_fingerprint(f)?,
-            })
-        })
-        .collect::<Result<Vec<_>, Error>>()?;
-    let d = digest::assemble(
-        Calibration::of(&profile, &args.profile),
-        sources,
-        current,
-        compare_to,
-        previous,
-    );
+    let sources = digest::sources(&args.files)?;
+    let calibration = Calibration::of(&profile, &args.profile);
+    let d = digest::assemble(calibration, sources, current, compare_to, previous);
     let doc = document::render(&d, args.format.into(), &stem)?;
     let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
     for (name, bytes) in &doc.files {
