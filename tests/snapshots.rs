@@ -117,6 +117,25 @@ fn luck_json() {
 }
 
 #[test]
+fn digest_json() {
+    let games = "demo-data/meridian-2026-games.csv";
+    let profile = "demo-data/meridian-profile.json";
+    check(
+        "digest.json",
+        &[
+            "digest",
+            games,
+            "--profile",
+            profile,
+            "--as-of",
+            "2026-07-15",
+            "--format",
+            "json",
+        ],
+    );
+}
+
+#[test]
 fn backtest_json() {
     check(
         "backtest.json",

@@ -4,7 +4,7 @@ use serde::Serialize;
 
 use crate::digest::{Change, Club, Digest};
 use crate::report::LuckReport;
-use crate::report::json::{Num, Pair};
+use crate::report::json::{Named, Num, Pair, named};
 use crate::report::luck::{LuckJson, luck_json as luck};
 
 pub const SCHEMA: &str = "runcal.digest/1";
@@ -41,6 +41,8 @@ fn club(c: &Club) -> ClubJson<'_> {
 
 #[derive(Serialize)]
 struct CalibrationJson<'a> {
+    model: &'static str,
+    params: Named<'a, f64>,
     profile: &'a str,
     profile_runcal_version: &'a str,
     fitted_seasons: [i32; 2],
@@ -141,6 +143,8 @@ pub fn digest<'a>(
         as_of: d.current.as_of.to_string(),
         compare_to: d.compare_to.to_string(),
         calibration: CalibrationJson {
+            model: c.model.kind.name(),
+            params: named(c.model.kind.param_names(), &c.model.params),
             profile: &c.profile,
             profile_runcal_version: &c.profile_version,
             fitted_seasons: c.fitted_seasons,
