@@ -157,7 +157,7 @@ fn bootstraps(c: &mut Criterion) {
                 seed: 1,
                 resample,
                 level: 0.95,
-                progress: false,
+                progress: None,
             };
             let name = format!("{}_{resamples}", kind.name());
             let id = BenchmarkId::new(name, format!("{resample:?}").to_lowercase());

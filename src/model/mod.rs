@@ -243,7 +243,13 @@ pub fn pythagorean_pct(x: f64, ln_ratio: f64) -> f64 {
             0.0
         };
     }
-    1.0 / (1.0 + (-x * ln_ratio).exp())
+    logistic(x * ln_ratio)
+}
+
+/// The logistic function σ(η) = 1/(1+exp(−η)): the one sigmoid every exponent model uses.
+#[inline]
+pub fn logistic(eta: f64) -> f64 {
+    1.0 / (1.0 + (-eta).exp())
 }
 
 /// Expected win% of one row.
@@ -252,6 +258,73 @@ pub fn predict(kind: ModelKind, params: &[f64], row: &Row) -> f64 {
     match exponent(kind, params, row.ln_rpg, row.log10_rpg) {
         Some(x) => pythagorean_pct(x, row.ln_ratio),
         None => 0.5 + row.diff_per_game / params[0],
+    }
+}
+
+/// ∂ logit(p̂)/∂θ of one row: the direction in which the row's score moves. The log-likelihood's
+/// gradient is Σ (W − n·p̂)·g and its expected (Fisher) information Σ n·p̂(1−p̂)·g·gᵀ. For the
+/// exponent models logit(p̂) = x(θ)·ln(RS/RA), so g = ln(RS/RA)·∂x/∂θ: for the Pythagorean and
+/// Pythagenport models a fixed covariate (a logistic regression without intercept); for PythagenPat
+/// x·ln(RPG)·ln(RS/RA). For the linear model g = (∂p̂/∂r)/(p̂(1−p̂)). Entries past the model's
+/// parameter count are 0. `None` where p̂ lies outside (0, 1) (a zero-run side, or a linear
+/// prediction past 0 or 1): such a row has no likelihood slope.
+#[inline]
+pub fn logit_gradient(kind: ModelKind, params: &[f64], row: &Row) -> Option<[f64; 2]> {
+    let l = row.ln_ratio;
+    match kind {
+        ModelKind::Pythagorean => l.is_finite().then_some([l, 0.0]),
+        ModelKind::Pythagenpat => {
+            let x = (params[0] * row.ln_rpg).exp();
+            l.is_finite().then_some([l * x * row.ln_rpg, 0.0])
+        }
+        ModelKind::Pythagenport => l.is_finite().then_some([l * row.log10_rpg, l]),
+        ModelKind::Linear => {
+            let r = params[0];
+            let p = 0.5 + row.diff_per_game / r;
+            (p > 0.0 && p < 1.0).then(|| [-row.diff_per_game / (r * r) / (p * (1.0 - p)), 0.0])
+        }
+    }
+}
+
+/// ∂²logit(p̂)/∂θ∂θᵀ of one row (zero for the Pythagorean and Pythagenport models, whose logit is
+/// linear in the parameters); the observed information adds −(W − n·p̂)·this to n·p̂(1−p̂)·g·gᵀ.
+/// `None` where [`logit_gradient`] is `None`.
+#[inline]
+pub fn logit_hessian(kind: ModelKind, params: &[f64], row: &Row) -> Option<[[f64; 2]; 2]> {
+    let l = row.ln_ratio;
+    match kind {
+        ModelKind::Pythagorean | ModelKind::Pythagenport => l.is_finite().then_some([[0.0; 2]; 2]),
+        ModelKind::Pythagenpat => {
+            let x = (params[0] * row.ln_rpg).exp();
+            l.is_finite()
+                .then_some([[l * x * row.ln_rpg * row.ln_rpg, 0.0], [0.0; 2]])
+        }
+        ModelKind::Linear => {
+            let (r, d) = (params[0], row.diff_per_game);
+            let p = 0.5 + d / r;
+            let v = p * (1.0 - p);
+            // g = p'/v with p' = −d/r², p'' = 2d/r³, v' = (1 − 2p)·p'.
+            let (dp, ddp) = (-d / (r * r), 2.0 * d / (r * r * r));
+            (p > 0.0 && p < 1.0).then(|| {
+                [
+                    [ddp / v - dp * dp * (1.0 - 2.0 * p) / (v * v), 0.0],
+                    [0.0; 2],
+                ]
+            })
+        }
+    }
+}
+
+/// The range each parameter plausibly takes for a major-league-like run environment (common
+/// practice; values from memory of published fits, widened): exponent 1–3, PythagenPat z 0.15–0.45,
+/// Pythagenport a 0–3 and b −1–2, runs per win 5–20. A standard error wider than its parameter's
+/// whole range means the data do not determine that parameter.
+pub fn plausible_ranges(kind: ModelKind) -> &'static [(f64, f64)] {
+    match kind {
+        ModelKind::Pythagorean => &[(1.0, 3.0)],
+        ModelKind::Pythagenpat => &[(0.15, 0.45)],
+        ModelKind::Pythagenport => &[(0.0, 3.0), (-1.0, 2.0)],
+        ModelKind::Linear => &[(5.0, 20.0)],
     }
 }
 
