@@ -31,6 +31,14 @@ impl CostFunction for TwoParam<'_> {
     }
 }
 
+/// argmin's error as ours, naming the model.
+fn solver_error(p: Problem<'_>) -> impl Fn(ArgminError) -> FitError {
+    move |e| FitError::Solver {
+        model: p.kind.name().to_string(),
+        message: e.to_string(),
+    }
+}
+
 pub fn fit_one(p: Problem<'_>, start: f64) -> Result<Outcome, FitError> {
     let problem = LogScale(p);
     let f = |u: f64| p.value(&[u.exp()]);
@@ -42,10 +50,7 @@ pub fn fit_one(p: Problem<'_>, start: f64) -> Result<Outcome, FitError> {
     let res = Executor::new(problem, BrentOpt::new(lo, hi).set_tolerance(1e-11, 1e-13))
         .configure(|s| s.max_iters(200))
         .run()
-        .map_err(|e| FitError::Solver {
-            model: p.kind.name().to_string(),
-            message: e.to_string(),
-        })?;
+        .map_err(solver_error(p))?;
     let state = res.state();
     let u = *state.get_best_param().ok_or_else(|| FitError::Solver {
         model: p.kind.name().to_string(),
@@ -81,17 +86,11 @@ pub fn fit_two(p: Problem<'_>, start: &[f64]) -> Result<Outcome, FitError> {
         ];
         let solver = NelderMead::new(simplex)
             .with_sd_tolerance(1e-15)
-            .map_err(|e| FitError::Solver {
-                model: p.kind.name().to_string(),
-                message: e.to_string(),
-            })?;
+            .map_err(solver_error(p))?;
         let res = Executor::new(TwoParam(p), solver)
             .configure(|s| s.max_iters(5000))
             .run()
-            .map_err(|e| FitError::Solver {
-                model: p.kind.name().to_string(),
-                message: e.to_string(),
-            })?;
+            .map_err(solver_error(p))?;
         let state = res.state();
         iterations += state.get_iter();
         let done = converged(state.get_termination_status());
