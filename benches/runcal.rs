@@ -149,7 +149,12 @@ fn fits(c: &mut Criterion) {
 fn bootstraps(c: &mut Criterion) {
     let (ds, t) = databank();
     let mut g = c.benchmark_group("bootstrap_databank");
-    for (kind, resamples) in [(ModelKind::Pythagorean, 2000), (ModelKind::Linear, 200)] {
+    for (kind, resamples) in [
+        (ModelKind::Pythagorean, 2000),
+        (ModelKind::Pythagenpat, 200),
+        (ModelKind::Pythagenport, 200),
+        (ModelKind::Linear, 200),
+    ] {
         let f = fit::fit_model(&t, kind, Loss::Logloss).unwrap();
         for resample in [Resample::Team, Resample::Season] {
             let opts = bootstrap::Options {

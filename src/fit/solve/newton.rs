@@ -1,6 +1,6 @@
 //! Newton's method on the log-loss of the exponent models, as an argmin problem that implements
 //! `CostFunction`, `Gradient` and `Hessian` from the model's own derivatives
-//! ([`crate::model::logit_gradient`], [`crate::model::logit_hessian`]). For the Pythagorean and
+//! ([`crate::model::logit_derivatives`]). For the Pythagorean and
 //! Pythagenport models the log-loss is a logistic regression without intercept (x·ln(RS/RA) is
 //! linear in the parameters), so it is convex and Newton converges in a handful of steps where
 //! Brent or Nelder–Mead need tens to hundreds of loss evaluations along the long valley that
@@ -12,7 +12,7 @@ use std::cell::RefCell;
 use argmin::core::{CostFunction, Error as ArgminError, Gradient, Hessian};
 
 use super::{Outcome, Problem};
-use crate::model::{ModelKind, Row, logit_gradient, logit_hessian, predict};
+use crate::model::{ModelKind, Row, logit_derivatives, predict};
 
 /// The total negative log-likelihood of a (weighted) table, with its exact derivatives.
 /// Gradient −Σ c·(W − n·p̂)·g; Hessian Σ c·[n·p̂(1−p̂)·g·gᵀ − (W − n·p̂)·∂g], where g is the
@@ -54,14 +54,10 @@ impl<'a> LogLikelihood<'a> {
             if c == 0.0 {
                 continue;
             }
-            let row = Row::of(t, i);
-            let (Some(g), Some(h)) = (
-                logit_gradient(p.kind, theta, &row),
-                logit_hessian(p.kind, theta, &row),
-            ) else {
+            let Some(d) = logit_derivatives(p.kind, theta, &Row::of(t, i)) else {
                 continue;
             };
-            let q = predict(p.kind, theta, &row);
+            let (q, g, h) = (d.p, d.gradient, d.hessian);
             let n = c * t.decisions[i];
             let residual = c * t.wins[i] - n * q;
             let v = n * q * (1.0 - q);
@@ -79,6 +75,15 @@ impl<'a> LogLikelihood<'a> {
         };
         *self.last.borrow_mut() = Some(d.clone());
         d
+    }
+
+    /// Whether every counted row has p̂ inside (0, 1), and both wins and losses.
+    fn all_inside(&self, theta: &[f64]) -> bool {
+        let (p, t) = (&self.problem, self.problem.table);
+        (0..t.len()).all(|i| {
+            let q = predict(p.kind, theta, &Row::of(t, i));
+            p.count(i) == 0.0 || (q > 0.0 && q < 1.0 && t.wins[i] > 0.0 && t.losses[i] > 0.0)
+        })
     }
 
     /// Whether every counted row's p̂ stays clear of the log-loss clamp, where the loss stops being
@@ -222,6 +227,43 @@ pub fn polish(p: Problem<'_>, found: &Outcome) -> Option<Outcome> {
         params,
         loss,
         iterations: found.iterations + iterations,
+        converged: true,
+    })
+}
+
+/// The bootstrap's fast path for PythagenPat, the linear model and Pythagenport: Newton from a
+/// nearby optimum (the full-data fit) on a resample's weighted log-loss, kept when it converges to a
+/// point whose Hessian is positive definite (a local minimum: the step is only taken when it is)
+/// within 20 steps, with p̂ off the clamp for Pythagenport as in [`minimise`]. `None` otherwise,
+/// and the caller runs the general solver. The loss is left for the caller's metrics pass (NaN).
+pub fn from_nearby(p: Problem<'_>, start: &[f64]) -> Option<Outcome> {
+    let problem = LogLikelihood::new(p);
+    let two = p.kind == ModelKind::Pythagenport;
+    if two && p.table.ln_ratio.iter().any(|l| !l.is_finite()) {
+        return None;
+    }
+    let (params, iterations) = newton(&problem, start, |th| two || th[0] > 0.0)?;
+    if iterations > 20 || (two && !problem.off_the_clamp(&params)) {
+        return None;
+    }
+    // The clamped linear log-loss is convex in 1/r only while every row's p̂ lies inside (0, 1):
+    // a row pushed past 0 or 1 keeps its clamped loss whatever r does, and the loss can have
+    // another minimum there (the 1870s rows do this on the full history). So the fast path only
+    // keeps an optimum with every counted row inside, none of them without wins or losses (whose
+    // loss keeps falling as p̂ reaches 0 or 1); otherwise the general solver decides.
+    if p.kind == ModelKind::Linear && !problem.all_inside(&params) {
+        return None;
+    }
+    // The last step was taken on a positive definite Hessian; check it at the optimum itself.
+    let h = problem.hessian(&params).ok()?;
+    let definite = match h.len() {
+        1 => h[0][0] > 0.0,
+        _ => h[0][0] > 0.0 && h[0][0] * h[1][1] - h[0][1] * h[1][0] > 0.0,
+    };
+    definite.then_some(Outcome {
+        params,
+        loss: f64::NAN,
+        iterations,
         converged: true,
     })
 }
