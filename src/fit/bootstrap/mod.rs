@@ -418,12 +418,12 @@ mod tests {
                 let full = crate::fit::fit_model(&t, kind, Loss::Logloss).unwrap();
                 let start = full.model.params;
                 let mut s = Scratch::default();
-                let mut fast = 0;
+                let mut by_newton = 0;
                 for b in 0..60 {
                     weights(t.len(), &season_rows, resample, 3, b, &mut s.counts);
                     let (gp, gm) = s.general(&t, kind, Loss::Logloss, &start).unwrap();
                     if let Some((fp, fm)) = s.newton(&t, kind, &start) {
-                        fast += 1;
+                        by_newton += 1;
                         // The same optimum within 1e-9 (the general path polishes its
                         // derivative-free optimum with Newton; Pythagenport's is Newton from the
                         // same start).
@@ -449,9 +449,9 @@ mod tests {
                     // Seven 1870s rows lie outside (0, 1) at the full-history optimum, where
                     // the clamped loss is not convex: the fast path declines every resample that
                     // draws any of them (each is left out with probability (1 − 1/n)ⁿ ≈ 0.37).
-                    assert!(fast <= 3, "{kind}: {fast} of 60 by Newton");
+                    assert!(by_newton <= 3, "{kind}: {by_newton} of 60 by Newton");
                 } else {
-                    assert!(fast >= 55, "{kind}: {fast} of 60 by Newton");
+                    assert!(by_newton >= 55, "{kind}: {by_newton} of 60 by Newton");
                 }
             }
         }
