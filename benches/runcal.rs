@@ -149,7 +149,12 @@ fn fits(c: &mut Criterion) {
 fn bootstraps(c: &mut Criterion) {
     let (ds, t) = databank();
     let mut g = c.benchmark_group("bootstrap_databank");
-    for (kind, resamples) in [(ModelKind::Pythagorean, 2000), (ModelKind::Linear, 200)] {
+    for (kind, resamples) in [
+        (ModelKind::Pythagorean, 2000),
+        (ModelKind::Pythagenpat, 200),
+        (ModelKind::Pythagenport, 200),
+        (ModelKind::Linear, 200),
+    ] {
         let f = fit::fit_model(&t, kind, Loss::Logloss).unwrap();
         for resample in [Resample::Team, Resample::Season] {
             let opts = bootstrap::Options {
@@ -157,7 +162,7 @@ fn bootstraps(c: &mut Criterion) {
                 seed: 1,
                 resample,
                 level: 0.95,
-                progress: false,
+                progress: None,
             };
             let name = format!("{}_{resamples}", kind.name());
             let id = BenchmarkId::new(name, format!("{resample:?}").to_lowercase());

@@ -37,6 +37,10 @@ pub struct Profile {
     pub std_errors: Option<BTreeMap<String, f64>>,
     pub std_errors_binomial: Option<BTreeMap<String, f64>>,
     pub dispersion: Option<f64>,
+    /// Quasi-binomial covariance of the parameters (rows and columns in the model's parameter
+    /// order), when the fit had one; profiles saved before it existed load without it.
+    #[serde(default)]
+    pub covariance: Option<Vec<Vec<f64>>>,
     pub ci: Option<BTreeMap<String, [f64; 2]>>,
     pub ci_level: Option<f64>,
     pub metrics: crate::fit::Metrics,
@@ -148,6 +152,7 @@ impl Profile {
             std_errors: f.std_errors.as_ref().map(|s| named(names, &s.corrected)),
             std_errors_binomial: f.std_errors.as_ref().map(|s| named(names, &s.binomial)),
             dispersion,
+            covariance: f.std_errors.as_ref().map(|s| s.covariance.clone()),
             ci: f.intervals.as_ref().map(|iv| {
                 names
                     .iter()

@@ -448,3 +448,77 @@ fn league_balance_rules_fail_a_corrupted_season_file() {
         .assert()
         .code(0);
 }
+
+/// The Databank's `--map` options (tests/data/databank-teams.csv, Baseball Databank 2021.2).
+const DATABANK: [&str; 9] = [
+    "tests/data/databank-teams.csv",
+    "--map",
+    "season=yearID",
+    "--map",
+    "league=lgID",
+    "--map",
+    "team=teamID",
+    "--map",
+    "runs_scored=R",
+];
+
+fn check_json(profile: &std::path::Path) -> (i32, Value) {
+    let out = runcal()
+        .arg("check")
+        .args(DATABANK)
+        .args([
+            "--seasons",
+            "2007-2020",
+            "-q",
+            "--format",
+            "json",
+            "--profile",
+        ])
+        .arg(profile)
+        .output()
+        .unwrap();
+    (
+        out.status.code().unwrap(),
+        serde_json::from_slice(&out.stdout).unwrap(),
+    )
+}
+
+#[test]
+fn pythagenport_drift_is_tested_jointly_and_an_old_profile_falls_back_to_one_at_a_time() {
+    let dir = tempfile::tempdir().unwrap();
+    let profile = dir.path().join("port.json");
+    runcal()
+        .arg("fit")
+        .args(DATABANK)
+        .args(["--seasons", "1980-2006", "--model", "pythagenport", "-q"])
+        .arg("--save-profile")
+        .arg(&profile)
+        .assert()
+        .success();
+    // Refitted on 2007–2020, (a, b) moves from (0.03, 1.90) to (2.26, −0.36): along the valley
+    // that corr(a, b) ≈ −0.999 draws, yet far enough across it that the Wald statistic on the
+    // summed covariance (12.9) exceeds the χ²₂ quantile at 2Φ(3) − 1, 11.829
+    // (scipy.stats.chi2.ppf(0.9973002039367398, 2)).
+    let (code, v) = check_json(&profile);
+    assert_eq!(code, 1, "{v}");
+    let rules = v["rules"].as_array().unwrap();
+    assert_eq!(rules.len(), 1, "{v}");
+    assert_eq!(rules[0]["rule"], "max_drift:joint");
+    assert!((rules[0]["threshold"].as_f64().unwrap() - 11.829).abs() < 1e-3);
+    assert!(rules[0]["value"].as_f64().unwrap() > 11.829);
+    assert_eq!(rules[0]["passed"], false);
+    // A profile saved before the covariance existed loads, and each parameter alone passes.
+    let mut old: Value = serde_json::from_slice(&std::fs::read(&profile).unwrap()).unwrap();
+    old.as_object_mut().unwrap().remove("covariance");
+    let old_path = dir.path().join("old.json");
+    std::fs::write(&old_path, serde_json::to_vec(&old).unwrap()).unwrap();
+    let (code, v) = check_json(&old_path);
+    assert_eq!(code, 0, "{v}");
+    let names: Vec<&str> = v["rules"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["rule"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["max_drift:a", "max_drift:b"]);
+}

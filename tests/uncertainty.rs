@@ -29,13 +29,13 @@ fn design(seasons: usize, seed: u64) -> Design {
     }
 }
 
-fn options(resamples: usize, seed: u64) -> bootstrap::Options {
+fn options(resamples: usize, seed: u64) -> bootstrap::Options<'static> {
     bootstrap::Options {
         resamples,
         seed,
         resample: bootstrap::Resample::Team,
         level: 0.95,
-        progress: false,
+        progress: None,
     }
 }
 

@@ -18,11 +18,37 @@ pub enum Scheme {
 }
 
 impl Scheme {
+    pub const ALL: [Scheme; 2] = [Scheme::LeaveOneSeasonOut, Scheme::Rolling];
+
     pub fn name(self) -> &'static str {
         match self {
             Scheme::LeaveOneSeasonOut => "leave-one-season-out",
             Scheme::Rolling => "rolling",
         }
+    }
+
+    /// One line on how seasons are held out (for help texts).
+    pub fn help(self) -> &'static str {
+        match self {
+            Scheme::LeaveOneSeasonOut => "fit on every other season, score each season in turn",
+            Scheme::Rolling => "fit on all seasons before Y, score Y",
+        }
+    }
+}
+
+impl std::fmt::Display for Scheme {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl std::str::FromStr for Scheme {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        Scheme::ALL
+            .into_iter()
+            .find(|r| r.name() == s.trim())
+            .ok_or_else(|| format!("unknown scheme '{s}' (leave-one-season-out or rolling)"))
     }
 }
 
@@ -69,6 +95,13 @@ pub struct CandidateScore {
     pub candidate: Candidate,
     pub metrics: Metrics,
     pub folds: Vec<Fold>,
+    /// Pooled loss minus the best candidate's (0 for the best).
+    pub margin: f64,
+    /// Paired standard error of the margin: sd of the per-fold loss differences from the best,
+    /// over √folds (`None` for the best, or with fewer than two folds).
+    pub margin_se: Option<f64>,
+    /// Folds in which this candidate's loss is the lowest (ties count for each tied candidate).
+    pub folds_won: usize,
 }
 
 /// One held-out season: its rows, and which rows train the fit (listed only when the fold runs,
@@ -212,6 +245,9 @@ pub fn run(
             candidate: c.clone(),
             metrics: super::loss::metrics_of_predictions(&pooled, &pooled_pred),
             folds: fold_list,
+            margin: 0.0,
+            margin_se: None,
+            folds_won: 0,
         });
     }
     out.sort_by(|a, b| {
@@ -219,12 +255,46 @@ pub fn run(
             .total_cmp(&loss.of(&b.metrics))
             .then_with(|| a.candidate.label().cmp(&b.candidate.label()))
     });
+    margins(&mut out, loss);
     Ok(out)
+}
+
+/// Fill each ranked score's margin over the best, its paired standard error and its folds won.
+/// Every candidate is scored on the same folds, in the same order.
+fn margins(scores: &mut [CandidateScore], loss: Loss) {
+    let Some(best) = scores.first().cloned() else {
+        return;
+    };
+    let best_loss = loss.of(&best.metrics);
+    let folds = best.folds.len();
+    let lowest: Vec<f64> = (0..folds)
+        .map(|f| {
+            scores
+                .iter()
+                .map(|s| s.folds[f].loss)
+                .fold(f64::INFINITY, f64::min)
+        })
+        .collect();
+    for (i, s) in scores.iter_mut().enumerate() {
+        s.margin = loss.of(&s.metrics) - best_loss;
+        s.folds_won = (0..folds).filter(|&f| s.folds[f].loss <= lowest[f]).count();
+        if i == 0 || folds < 2 {
+            continue;
+        }
+        let d: Vec<f64> = (0..folds)
+            .map(|f| s.folds[f].loss - best.folds[f].loss)
+            .collect();
+        let mean = d.iter().sum::<f64>() / folds as f64;
+        let var = d.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (folds - 1) as f64;
+        s.margin_se = Some((var / folds as f64).sqrt());
+    }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::data::Weighting;
+    use crate::fit::testdata::databank;
 
     fn rows(seasons: i32, teams: usize) -> Vec<TeamSeason> {
         (0..seasons)
@@ -270,5 +340,32 @@ mod tests {
             e.contains("needs at least two seasons") && e.contains("one season (2000)"),
             "{e}"
         );
+    }
+
+    #[test]
+    fn rolling_backtest_reports_paired_margins_and_a_recommendation() {
+        let (t, rows) = databank(Some("1980-2006"), Weighting::None);
+        let candidates = [
+            Candidate::Fit(ModelKind::Pythagorean),
+            Candidate::Fit(ModelKind::Pythagenport),
+            Candidate::Fixed(Model::new(ModelKind::Pythagorean, vec![1.0])),
+        ];
+        let scores = run(&rows, &t, &candidates, Loss::Logloss, Scheme::Rolling, 10).unwrap();
+        let folds = scores[0].folds.len();
+        assert_eq!(folds, 17);
+        assert_eq!(scores[0].margin, 0.0);
+        assert_eq!(scores.iter().map(|s| s.folds_won).sum::<usize>(), folds);
+        // Exponent 1 is far worse than any fitted exponent (common practice: MLB exponents near
+        // 1.8-2): more than four paired standard errors behind, so told apart and never recommended.
+        let worst = scores.last().unwrap();
+        assert_eq!(worst.candidate.label(), "pythagorean:1");
+        assert!(worst.margin > 4.0 * worst.margin_se.unwrap(), "{worst:?}");
+        let c = crate::fit::compare::backtest(&scores, Loss::Logloss).unwrap();
+        assert!(!c.standings[2].indistinguishable_from_best);
+        // The two fitted models differ by noise within one era: the simpler one is recommended.
+        assert!(c.standings[1].indistinguishable_from_best, "{c:?}");
+        assert!(c.cannot_tell_apart);
+        assert_eq!(c.recommendation, "pythagorean");
+        assert!(c.verdict.contains("cannot tell"));
     }
 }

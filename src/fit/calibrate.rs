@@ -11,7 +11,7 @@ use crate::model::{Model, ModelKind};
 
 /// What to fit and what to compute beside it.
 #[derive(Debug, Clone)]
-pub struct Plan {
+pub struct Plan<'a> {
     /// Models to fit, in the order the user named them (the first is the one a profile saves).
     pub models: Vec<ModelKind>,
     pub loss: Loss,
@@ -24,7 +24,7 @@ pub struct Plan {
     pub references: Vec<Model>,
     /// Include the published references (`standard_references`).
     pub standard_references: bool,
-    pub bootstrap: Option<bootstrap::Options>,
+    pub bootstrap: Option<bootstrap::Options<'a>>,
     /// How many over- and under-performers to list.
     pub top: usize,
     /// Compute a line per team-season (the table, the CSV and the chart show them; JSON does not).
@@ -90,10 +90,17 @@ pub struct Calibration {
     /// `--exponent`).
     pub saved: Option<usize>,
     pub chart: Option<FitChart>,
+    /// Whether the data can tell the fitted models apart (log-loss fits over all rows, two or
+    /// more models): ranked by the loss, told apart by QAIC (see [`super::compare`]).
+    pub comparison: Option<super::Comparison>,
 }
 
 /// Fit, score and rank as the plan says. `rows` and `table` are the same rows in the same order.
-pub fn calibrate(rows: &[TeamSeason], table: &Table, plan: &Plan) -> Result<Calibration, Error> {
+pub fn calibrate(
+    rows: &[TeamSeason],
+    table: &Table,
+    plan: &Plan<'_>,
+) -> Result<Calibration, Error> {
     let mut fits: Vec<ModelFit> = Vec::new();
     let mut too_small = Vec::new();
     let mut unfitted = Vec::new();
@@ -101,6 +108,7 @@ pub fn calibrate(rows: &[TeamSeason], table: &Table, plan: &Plan) -> Result<Cali
     let mut teams = Vec::new();
     // The primary fit's rows (a group's with --by) for the chart.
     let mut primary: Option<(Model, Option<Group>, Table)> = None;
+    let mut comparison = None;
 
     if let Some(x) = plan.exponent {
         let model = Model::new(ModelKind::Pythagorean, vec![x]);
@@ -158,6 +166,7 @@ pub fn calibrate(rows: &[TeamSeason], table: &Table, plan: &Plan) -> Result<Cali
         let first = fits.first().map(|f| (f.model.clone(), None, table.clone()));
         primary = first;
         super::rank(&mut fits);
+        comparison = super::compare::in_sample(&fits);
     }
     let Some((primary, primary_group, primary_table)) = primary else {
         return Err(Error::Usage(
@@ -205,6 +214,7 @@ pub fn calibrate(rows: &[TeamSeason], table: &Table, plan: &Plan) -> Result<Cali
         behind,
         saved,
         chart,
+        comparison,
     })
 }
 
@@ -212,7 +222,7 @@ fn with_intervals(
     table: &Table,
     rows: &[TeamSeason],
     kind: ModelKind,
-    plan: &Plan,
+    plan: &Plan<'_>,
 ) -> Result<ModelFit, Error> {
     let mut f = super::fit_model(table, kind, plan.loss)?;
     if let Some(opts) = &plan.bootstrap {
@@ -222,7 +232,7 @@ fn with_intervals(
 }
 
 /// The published references and the user's, each scored once, ranked.
-fn references(table: &Table, plan: &Plan) -> Vec<ModelFit> {
+fn references(table: &Table, plan: &Plan<'_>) -> Vec<ModelFit> {
     let standard = if plan.standard_references {
         super::standard_references()
     } else {

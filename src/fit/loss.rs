@@ -111,50 +111,6 @@ pub fn metrics(t: &Table, kind: ModelKind, params: &[f64], counts: Option<&[f64]
     metrics_with(t, counts, |i| predict(kind, params, &Row::of(t, i)))
 }
 
-/// [`metrics`] of the Pythagorean model at exponent `x` for the bootstrap, with row multiplicities
-/// `counts`, reading only `rows` (the rows whose count is not zero, in ascending order), and the
-/// exact Newton step of the log-loss at `x`, with which the bootstrap checks its predicted optimum.
-/// The log-loss comes from `series`; the rest needs each row's p̂, one exp per row. `scratch` holds
-/// the p̂ of each row.
-pub fn pythagorean_metrics(
-    t: &Table,
-    x: f64,
-    counts: &[f64],
-    rows: &[u32],
-    series: &crate::fit::solve::SeriesSums,
-    predictor: &crate::fit::solve::PythagoreanSeries,
-    scratch: &mut Vec<f64>,
-) -> (Metrics, f64) {
-    // The predictions first: from the series when it reaches, else by exp, alone in their loop
-    // because each call clobbers every vector register, so the running sums below would
-    // otherwise be spilled to memory and reloaded around every row.
-    if !predictor.predictions(x, rows, scratch) {
-        scratch.clear();
-        scratch.extend(
-            rows.iter()
-                .map(|&i| crate::model::pythagorean_pct(x, t.ln_ratio[i as usize])),
-        );
-    }
-    let mut sums = Sums::default();
-    let (mut expected, mut hess) = (0.0, 0.0);
-    for (&i, &p) in rows.iter().zip(scratch.iter()) {
-        let i = i as usize;
-        let c = counts[i];
-        // The log-likelihood comes from the series below, so none is added here.
-        sums.add(t, i, c, p, 0.0);
-        let l = t.ln_ratio[i];
-        // An infinite ratio gives p̂ of exactly 0 or 1 whatever x is: no slope, no curvature.
-        if l.is_finite() {
-            let n = c * t.decisions[i];
-            expected += n * p * l;
-            hess += n * p * (1.0 - p) * l * l;
-        }
-    }
-    let mut m = sums.metrics();
-    m.logloss = series.nll(x) / sums.games;
-    (m, (series.wins_ln_ratio() - expected) / hess)
-}
-
 /// Every metric of given predictions, one per row (pooled out-of-sample predictions).
 pub fn metrics_of_predictions(t: &Table, predictions: &[f64]) -> Metrics {
     metrics_with(t, None, |i| predictions[i])
@@ -175,12 +131,12 @@ fn metrics_with(t: &Table, counts: Option<&[f64]>, prediction: impl Fn(usize) ->
 
 /// Running sums of every metric over rows with multiplicities.
 #[derive(Default)]
-struct Sums {
+pub(crate) struct Sums {
     abs: f64,
     sq: f64,
     wsum: f64,
     nll: f64,
-    games: f64,
+    pub(crate) games: f64,
     bias: f64,
     csum: f64,
     max_abs: f64,
@@ -190,7 +146,7 @@ struct Sums {
 impl Sums {
     /// Add row `i`, counted `c` times, with prediction `p` and negative log-likelihood `nll`.
     #[inline]
-    fn add(&mut self, t: &Table, i: usize, c: f64, p: f64, nll: f64) {
+    pub(crate) fn add(&mut self, t: &Table, i: usize, c: f64, p: f64, nll: f64) {
         let e = t.win_pct[i] - p;
         let w = c * t.weight[i];
         self.abs += w * e.abs();
@@ -204,7 +160,7 @@ impl Sums {
         self.max_abs = self.max_abs.max(e.abs());
     }
 
-    fn metrics(&self) -> Metrics {
+    pub(crate) fn metrics(&self) -> Metrics {
         let rmse = (self.sq / self.wsum).sqrt();
         Metrics {
             mae: self.abs / self.wsum,

