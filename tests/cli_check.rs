@@ -252,7 +252,7 @@ fn output_files_are_written_whole_and_never_over_an_input() {
         .assert()
         .success();
     let v: Value = serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
-    assert_eq!(v["schema"], "runcal.fit/1");
+    assert_eq!(v["schema"], "runcal.fit/2");
 
     // A run that fails leaves an existing output untouched and no temporary files behind.
     let before = std::fs::read(&out).unwrap();

@@ -23,7 +23,7 @@ fn databank_1980_2006_optimum_per_loss_matches_reference_script() {
     let r = reference();
     for loss in ["logloss", "mae", "rmse"] {
         let v = databank_fit(&["--seasons", "1980-2006", "--loss", loss, "--no-references"]);
-        assert_eq!(v["schema"], "runcal.fit/1");
+        assert_eq!(v["schema"], "runcal.fit/2");
         assert_eq!(v["rows_used"], 748);
         assert_eq!(v["rows_rejected"], 0);
         let fit = &v["fits"][0];

@@ -128,7 +128,7 @@ fn a_fifo_is_written_through() {
         .assert()
         .success();
     let text = reader.join().unwrap();
-    assert!(text.contains("\"schema\": \"runcal.fit/1\""), "{text}");
+    assert!(text.contains("\"schema\": \"runcal.fit/2\""), "{text}");
     assert!(temps_in(dir.path()).is_empty());
 }
 
@@ -152,7 +152,7 @@ fn a_symbolic_link_is_kept_and_its_file_replaced() {
     assert!(
         std::fs::read_to_string(&real)
             .unwrap()
-            .contains("runcal.fit/1")
+            .contains("runcal.fit/2")
     );
 }
 
@@ -163,7 +163,7 @@ fn proc_self_fd_1_writes_to_stdout() {
         .output()
         .unwrap();
     assert_eq!(out.status.code(), Some(0));
-    assert!(String::from_utf8_lossy(&out.stdout).contains("runcal.fit/1"));
+    assert!(String::from_utf8_lossy(&out.stdout).contains("runcal.fit/2"));
 }
 
 #[test]

@@ -224,7 +224,7 @@ fn backtest_command_names_the_best_model_with_its_margin() {
     ]);
     let v: serde_json::Value =
         serde_json::from_slice(&c.assert().success().get_output().stdout).unwrap();
-    assert_eq!(v["schema"], "runcal.backtest/1");
+    assert_eq!(v["schema"], "runcal.backtest/2");
     assert_eq!(v["scheme"], "rolling");
     let models = v["models"].as_array().unwrap();
     assert_eq!(models.len(), 8, "four fitted models and four references");

@@ -145,6 +145,42 @@ pub struct ModelFitJson<'a> {
     exponent_range: Option<Pair>,
     iterations: u64,
     converged: bool,
+    /// Quasi-binomial covariance of the parameters (dispersion × inverse information), in the
+    /// order of `params`.
+    covariance: Option<Matrix<'a>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    covariance_binomial: Option<Matrix<'a>>,
+    correlation: Option<Matrix<'a>>,
+    /// Rows whose p̂ lies outside (0, 1), left out of the information and the dispersion.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    rows_outside_unit: Option<usize>,
+    /// Log-likelihood, AIC and QAIC (log-loss fits).
+    criteria: Option<CriteriaJson>,
+    /// Plain-words warnings that the data do not pin a parameter down.
+    weak_identification: &'a [String],
+}
+
+/// A square matrix whose non-finite entries become null.
+#[derive(Debug, Clone, Copy)]
+pub struct Matrix<'a>(pub &'a [Vec<f64>]);
+
+impl Serialize for Matrix<'_> {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let mut seq = s.serialize_seq(Some(self.0.len()))?;
+        for row in self.0 {
+            seq.serialize_element(&row.iter().map(|&v| Num(v)).collect::<Vec<_>>())?;
+        }
+        seq.end()
+    }
+}
+
+#[derive(Serialize)]
+pub struct CriteriaJson {
+    log_likelihood: Num,
+    parameters: usize,
+    aic: Num,
+    qaic: Num,
+    dispersion: Num,
 }
 
 /// Serialises `[(name, [lo, hi]), …]` as an object.
@@ -202,6 +238,18 @@ impl<'a> From<&'a ModelFit> for ModelFitJson<'a> {
             exponent_range: f.exponent_range.map(|(lo, hi)| Pair(lo, hi)),
             iterations: f.iterations,
             converged: f.converged,
+            covariance: se.map(|s| Matrix(&s.covariance)),
+            covariance_binomial: se.map(|s| Matrix(&s.covariance_binomial)),
+            correlation: se.map(|s| Matrix(&s.correlation)),
+            rows_outside_unit: se.map(|s| s.rows_outside_unit),
+            criteria: f.criteria.map(|c| CriteriaJson {
+                log_likelihood: Num(c.log_likelihood),
+                parameters: c.parameters,
+                aic: Num(c.aic),
+                qaic: Num(c.qaic),
+                dispersion: Num(c.dispersion),
+            }),
+            weak_identification: &f.weak_identification,
         }
     }
 }
@@ -212,7 +260,7 @@ struct TooSmallJson<'a> {
     rows: usize,
 }
 
-/// `runcal.fit/1`.
+/// `runcal.fit/2`.
 #[derive(Serialize)]
 pub struct FitJson<'a> {
     schema: &'static str,
@@ -223,11 +271,14 @@ pub struct FitJson<'a> {
     fits: Vec<ModelFitJson<'a>>,
     too_small_groups: Vec<TooSmallJson<'a>>,
     unfitted_groups: &'a [crate::fit::calibrate::UnfittedGroup],
+    /// The in-sample comparison of the fitted log-loss models: ΔQAIC, the verdict, the
+    /// recommendation (`null` with fewer than two such fits, or with `--by`).
+    comparison: Option<&'a crate::fit::Comparison>,
 }
 
 pub fn fit(r: &FitReport) -> FitJson<'_> {
     FitJson {
-        schema: "runcal.fit/1",
+        schema: "runcal.fit/2",
         caution: crate::CAUTION,
         rows_used: r.rows_used,
         rows_rejected: r.rows_rejected,
@@ -240,6 +291,7 @@ pub fn fit(r: &FitReport) -> FitJson<'_> {
             .map(|(group, rows)| TooSmallJson { group, rows: *rows })
             .collect(),
         unfitted_groups: &r.calibration.unfitted,
+        comparison: r.calibration.comparison.as_ref(),
     }
 }
 
@@ -299,11 +351,16 @@ struct CandidateJson<'a> {
     mae: Num,
     rmse: Num,
     logloss: Num,
+    /// Out-of-sample loss minus the best's, its paired standard error across folds, and the folds
+    /// in which this candidate's loss was lowest.
+    margin: Num,
+    margin_se: Option<Num>,
+    folds_won: usize,
     folds: usize,
     fold_details: Vec<FoldJson<'a>>,
 }
 
-/// `runcal.backtest/1`.
+/// `runcal.backtest/2`.
 #[derive(Serialize)]
 pub struct BacktestJson<'a> {
     schema: &'static str,
@@ -314,6 +371,8 @@ pub struct BacktestJson<'a> {
     models: Vec<CandidateJson<'a>>,
     best: Option<String>,
     margin: Option<Num>,
+    /// Whether the data can tell the candidates apart, and the recommendation.
+    comparison: Option<&'a crate::fit::Comparison>,
 }
 
 pub fn backtest(r: &super::BacktestReport) -> BacktestJson<'_> {
@@ -333,6 +392,9 @@ pub fn backtest(r: &super::BacktestReport) -> BacktestJson<'_> {
                 mae: Num(s.metrics.mae),
                 rmse: Num(s.metrics.rmse),
                 logloss: Num(s.metrics.logloss),
+                margin: Num(s.margin),
+                margin_se: s.margin_se.map(Num),
+                folds_won: s.folds_won,
                 folds: s.folds.len(),
                 fold_details: s
                     .folds
@@ -349,7 +411,7 @@ pub fn backtest(r: &super::BacktestReport) -> BacktestJson<'_> {
         })
         .collect();
     BacktestJson {
-        schema: "runcal.backtest/1",
+        schema: "runcal.backtest/2",
         scheme: r.scheme.name(),
         loss: r.loss.name(),
         rows_used: r.rows_used,
@@ -357,6 +419,7 @@ pub fn backtest(r: &super::BacktestReport) -> BacktestJson<'_> {
         models,
         best: r.scores.first().map(|s| s.candidate.label()),
         margin: r.margin.map(Num),
+        comparison: r.comparison.as_ref(),
     }
 }
 

@@ -159,6 +159,8 @@ pub struct BacktestReport {
     pub scores: Vec<crate::fit::backtest::CandidateScore>,
     /// How far the second trails the best, in the loss.
     pub margin: Option<f64>,
+    /// Paired margins, folds won and whether the data can tell the models apart.
+    pub comparison: Option<crate::fit::Comparison>,
 }
 
 impl Report for BacktestReport {

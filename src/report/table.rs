@@ -179,10 +179,20 @@ fn comparison(r: &FitReport) -> String {
         "bias",
         "runs/win",
         "exponent range",
+        "AIC",
+        "ΔQAIC",
     ];
     let mut t = new_table(&header, 4);
     let c = &r.calibration;
     let ranked: Vec<&ModelFit> = c.ranking.iter().map(|&i| &c.fits[i]).collect();
+    let delta_qaic = |f: &ModelFit| {
+        let standings = c.comparison.as_ref().map_or(&[][..], |x| &x.standings[..]);
+        standings
+            .iter()
+            .find(|s| f.fitted && s.label == f.model.kind.name())
+            .and_then(|s| s.delta_qaic)
+            .map_or("-".to_string(), |d| num(d, 2))
+    };
     for (i, f) in ranked.iter().enumerate() {
         let status = if f.fitted {
             "fitted".to_string()
@@ -207,6 +217,8 @@ fn comparison(r: &FitReport) -> String {
             signed(f.metrics.bias, 5),
             num(f.runs_per_win, 2),
             exponent_range(f),
+            f.criteria.map_or("-".to_string(), |k| num(k.aic, 1)),
+            delta_qaic(f),
         ]);
     }
     let mut s = t.to_string();
@@ -216,12 +228,23 @@ fn comparison(r: &FitReport) -> String {
     );
     if let (Some(first), Some(second), Some(margin)) = (ranked.first(), ranked.get(1), c.margin) {
         s.push_str(&format!(
-            "best by {loss}: {} ({}), ahead of {} ({}) by {margin:.2e}\n",
+            "lowest {loss}: {} ({}), ahead of {} ({}) by {margin:.2e}\n",
             first.model.kind,
             params(first),
             second.model.kind,
             params(second),
         ));
+    }
+    if let Some(cmp) = &c.comparison {
+        s.push_str(&format!(
+            "model choice: {}\n  rule: {}\n",
+            cmp.verdict, cmp.rule
+        ));
+    }
+    for f in ranked.iter().filter(|f| !f.weak_identification.is_empty()) {
+        for flag in &f.weak_identification {
+            s.push_str(&format!("  weakly determined: {}: {flag}\n", f.model.kind));
+        }
     }
     s
 }
@@ -250,7 +273,13 @@ fn grouped(r: &FitReport) -> String {
                     .as_ref()
                     .map(ToString::to_string)
                     .unwrap_or_else(|| "all".into());
-                let note = if f.converged { "" } else { "not converged" };
+                let note = if !f.converged {
+                    "not converged"
+                } else if !f.weak_identification.is_empty() {
+                    "weakly determined"
+                } else {
+                    ""
+                };
                 vec![
                     g,
                     f.model.kind.to_string(),
@@ -349,10 +378,21 @@ pub fn backtest(r: &super::BacktestReport) -> String {
             "logloss",
             "mae",
             "rmse",
+            "behind best",
+            "paired SE",
+            "folds won",
+            "told apart?",
         ],
         3,
     );
+    let standings = r.comparison.as_ref().map_or(&[][..], |c| &c.standings[..]);
     for (i, s) in r.scores.iter().enumerate() {
+        let told_apart = match standings.get(i) {
+            Some(_) if i == 0 => "best",
+            Some(st) if st.indistinguishable_from_best => "no",
+            Some(_) => "yes",
+            None => "-",
+        };
         let status = match s.candidate {
             crate::fit::backtest::Candidate::Fit(_) => "refitted per fold",
             crate::fit::backtest::Candidate::Fixed(_) => "reference",
@@ -365,16 +405,27 @@ pub fn backtest(r: &super::BacktestReport) -> String {
             num(s.metrics.logloss, 6),
             num(s.metrics.mae, 5),
             num(s.metrics.rmse, 5),
+            format!("{:.2e}", s.margin),
+            s.margin_se
+                .map_or("-".to_string(), |se| format!("{se:.2e}")),
+            format!("{} of {}", s.folds_won, s.folds.len()),
+            told_apart.to_string(),
         ]);
     }
     out.push_str(&t.to_string());
     out.push('\n');
     if let (Some(a), Some(b), Some(margin)) = (r.scores.first(), r.scores.get(1), r.margin) {
         out.push_str(&format!(
-            "best out of sample: {}, ahead of {} by {margin:.2e} in {}\n",
+            "lowest out-of-sample {}: {}, ahead of {} by {margin:.2e}\n",
+            r.loss.name(),
             a.candidate.label(),
             b.candidate.label(),
-            r.loss.name()
+        ));
+    }
+    if let Some(c) = &r.comparison {
+        out.push_str(&format!(
+            "model choice: {}\n  rule: {}\n",
+            c.verdict, c.rule
         ));
     }
     out

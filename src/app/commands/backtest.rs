@@ -65,6 +65,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         rows_used: ds.rows.len(),
         rows_rejected: ds.rejected.len(),
         margin: backtest::margin(&scores, loss),
+        comparison: runcal::fit::compare::backtest(&scores, loss),
         scores,
     };
     super::emit(&report, &args.output, files)?;
