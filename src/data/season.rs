@@ -95,21 +95,12 @@ pub fn load(paths: &[String], opts: &LoadOptions) -> Result<Dataset, DataError> 
 
 fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), DataError> {
     let file = input::display_name(path);
-    let reader = input::open(path, opts.max_line_bytes)?;
+    let reader = input::open(path, opts.max_line_bytes, opts.max_field_bytes)?;
     // Fields are trimmed in `parse_row`, not by csv, so that `record_line` sees every newline.
     let mut rdr = csv::ReaderBuilder::new()
         .flexible(false)
         .from_reader(reader);
-    let headers: Vec<String> = match rdr.byte_headers() {
-        Ok(h) => h
-            .iter()
-            .map(|f| String::from_utf8_lossy(f).trim().to_string())
-            .collect(),
-        Err(e) => return Err(input::csv_error(&file, e)),
-    };
-    if headers.is_empty() || (headers.len() == 1 && headers[0].trim().is_empty()) {
-        return Err(DataError::Empty { file });
-    }
+    let headers = input::read_headers(&mut rdr, &file)?;
     let map = roles::resolve(&file, &headers, ROLES, &opts.maps)?;
     let mut record = csv::ByteRecord::new();
     let mut count: u64 = 0;
@@ -136,13 +127,13 @@ fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), Data
         }
         let line = Some(line);
         match parse_row(&file, line, &map, &record) {
-            Ok(row) => {
-                if opts.keeps(row.season, row.league.as_deref()) {
-                    ds.rows.push(row);
-                } else {
+            Ok(row) => match opts.left_out_by(row.season, row.league.as_deref()) {
+                None => ds.rows.push(row),
+                Some(filter) => {
                     ds.filtered_out += 1;
+                    ds.filtered_by_league += u64::from(filter == super::Filter::League);
                 }
-            }
+            },
             Err(r) => ds.reject(opts.skip_invalid, r)?,
         }
     }
