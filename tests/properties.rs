@@ -607,6 +607,10 @@ impl SeasonFile {
                 } else {
                     decisions
                 };
+                // More decisions than games played, beyond two forfeits, is a row error.
+                if decisions > games + 2 {
+                    return None;
+                }
                 Some(TeamSeason {
                     season,
                     league: (!league.is_empty()).then_some(league),

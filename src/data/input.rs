@@ -281,6 +281,20 @@ pub fn shown(text: &str) -> String {
         .collect()
 }
 
+/// Why a name cannot be used, if it holds a control character (NUL, ESC, ...; a tab or a line
+/// break inside a quoted name is text, and kept): the character escaped and its 1-based position.
+pub fn control_character(name: &str) -> Option<String> {
+    let (i, c) = name
+        .chars()
+        .enumerate()
+        .find(|&(_, c)| c.is_control() && c != '\n' && c != '\t')?;
+    Some(format!(
+        "the name holds the control character {} (character {}); names must be printable text",
+        c.escape_unicode(),
+        i + 1
+    ))
+}
+
 /// Whether a path names a regular file (which can be read twice), not `-`, a pipe or a device.
 pub fn is_regular_file(path: &str) -> bool {
     path != "-" && std::fs::metadata(path).is_ok_and(|m| m.is_file())

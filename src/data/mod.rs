@@ -92,8 +92,8 @@ pub struct LoadOptions {
 pub const DEFAULT_MAX_NAMES: usize = 100_000;
 
 /// Games of earlier dates the game-log duplicate check holds unless the caller says otherwise
-/// (about 40 bytes each: some 10 MB).
-pub const DEFAULT_MAX_HELD_GAMES: usize = 1 << 18;
+/// (32 bytes each and the map: about 1.5 MB; a larger budget costs the date-ordered path time).
+pub const DEFAULT_MAX_HELD_GAMES: usize = 1 << 15;
 
 impl Default for LoadOptions {
     fn default() -> Self {

@@ -69,33 +69,68 @@ impl<K: Copy + Eq + Hash> DayKeys<K> {
         self.list.len() + self.map.len()
     }
 
-    /// Every entry, leaving the keys empty (and their list's allocation in place).
-    fn take(&mut self) -> Vec<(K, SeenAt)> {
-        let mut all: Vec<(K, SeenAt)> = self.list.drain(..).collect();
-        all.extend(self.map.drain());
-        all
+    /// Move every entry into `into`, leaving the keys empty (and their list's allocation in place).
+    fn move_into(&mut self, into: &mut Vec<(K, SeenAt)>) {
+        into.append(&mut self.list);
+        into.extend(self.map.drain());
     }
 
-    fn restore(&mut self, entries: Vec<(K, SeenAt)>) {
-        for (k, at) in entries {
+    fn clear(&mut self) {
+        self.list.clear();
+        self.map.clear();
+    }
+
+    fn restore(&mut self, entries: &mut Vec<(K, SeenAt)>) {
+        for (k, at) in entries.drain(..) {
             self.insert(k, at);
         }
     }
 }
 
+/// Hashes a packed date (not input an attacker can steer into collisions beyond the calendar's
+/// few million days, and bounded by the budget): one multiplication instead of SipHash, since the
+/// map is touched on every change of date.
+#[derive(Default)]
+struct DateHasher(u64);
+
+impl std::hash::Hasher for DateHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.0 = (self.0 ^ u64::from(b)).wrapping_mul(0x100_0000_01b3);
+        }
+    }
+    fn write_u32(&mut self, n: u32) {
+        self.0 = u64::from(n).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    }
+}
+
+type DateMap<V> = HashMap<u32, V, std::hash::BuildHasherDefault<DateHasher>>;
+
+type HeldGames = Vec<(GameKey, SeenAt)>;
+
 /// Games of earlier dates, held up to a budget.
 #[derive(Default)]
 struct Held {
-    by_date: HashMap<u32, (Vec<(GameKey, SeenAt)>, u64)>,
+    by_date: DateMap<(HeldGames, u64)>,
     /// Dates in the order they were put away, with the generation they were put away under: an
     /// entry whose date was taken back since is stale and skipped.
     order: VecDeque<(u32, u64)>,
     games: usize,
     generation: u64,
+    /// Emptied lists, kept for reuse: a date-ordered log puts a date away on every change of date.
+    spare: Vec<HeldGames>,
 }
 
 impl Held {
-    fn put(&mut self, date: u32, games: Vec<(GameKey, SeenAt)>, budget: usize) {
+    /// A list to fill (from the spares when there are any).
+    fn list(&mut self) -> HeldGames {
+        self.spare.pop().unwrap_or_default()
+    }
+
+    fn put(&mut self, date: u32, games: HeldGames, budget: usize) {
         self.generation += 1;
         self.games += games.len();
         self.by_date.insert(date, (games, self.generation));
@@ -105,9 +140,11 @@ impl Held {
                 break;
             };
             if self.by_date.get(&old).is_some_and(|e| e.1 == generation)
-                && let Some((gone, _)) = self.by_date.remove(&old)
+                && let Some((mut gone, _)) = self.by_date.remove(&old)
             {
                 self.games -= gone.len();
+                gone.clear();
+                self.spare.push(gone);
             }
         }
         // Stale entries pile up when dates go back and forth: drop them now and then.
@@ -118,7 +155,7 @@ impl Held {
         }
     }
 
-    fn take(&mut self, date: u32) -> Option<Vec<(GameKey, SeenAt)>> {
+    fn take(&mut self, date: u32) -> Option<HeldGames> {
         let (games, _) = self.by_date.remove(&date)?;
         self.games -= games.len();
         Some(games)
@@ -178,8 +215,12 @@ impl DuplicateCheck {
     /// Put today's games away and make `date` today; false if its games were let go.
     fn move_to(&mut self, date: u32) -> bool {
         if let Some(d) = self.today {
-            if self.today_keys.len() > 0 {
-                self.held.put(d, self.today_keys.take(), self.budget);
+            if self.today_keys.len() > 0 && self.budget > 0 {
+                let mut games = self.held.list();
+                self.today_keys.move_into(&mut games);
+                self.held.put(d, games, self.budget);
+            } else {
+                self.today_keys.clear();
             }
             match self.finished.last() {
                 Some(&last) if last >= d => {
@@ -198,8 +239,9 @@ impl DuplicateCheck {
             return true;
         }
         match self.held.take(date) {
-            Some(games) => {
-                self.today_keys.restore(games);
+            Some(mut games) => {
+                self.today_keys.restore(&mut games);
+                self.held.spare.push(games);
                 true
             }
             None => {

@@ -10,11 +10,8 @@ use unicode_normalization::{IsNormalized, UnicodeNormalization, is_nfc_quick};
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub(super) enum NameError {
     NotUtf8,
-    /// A control character (shown escaped) at a 1-based character position.
-    Control {
-        shown: String,
-        position: usize,
-    },
+    /// A control character: the reason, with the character escaped.
+    Control(String),
     /// More distinct names than the load allows.
     TooMany {
         limit: usize,
@@ -25,11 +22,9 @@ impl NameError {
     pub(super) fn reason(&self, what: &str) -> String {
         match self {
             NameError::NotUtf8 => "not valid UTF-8".to_string(),
-            NameError::Control { shown, position } => format!(
-                "the {what} name holds the control character {shown} (character {position}); names must be printable text"
-            ),
+            NameError::Control(reason) => reason.clone(),
             NameError::TooMany { limit } => format!(
-                "more than {limit} distinct {what} names; is this the right column? (raise the limit with --max-teams if the file is genuine)"
+                "more than {limit} distinct {what} names in one load (the limit, far beyond any league's history): is this the right column?"
             ),
         }
     }
@@ -153,11 +148,8 @@ impl Interner {
     /// A spelling not seen before: checked, normalised, and given the id of its NFC form.
     fn add(&mut self, name: &[u8]) -> Result<u32, NameError> {
         let text = std::str::from_utf8(name).map_err(|_| NameError::NotUtf8)?;
-        if let Some((i, c)) = text.chars().enumerate().find(|(_, c)| c.is_control()) {
-            return Err(NameError::Control {
-                shown: c.escape_unicode().to_string(),
-                position: i + 1,
-            });
+        if let Some(reason) = super::super::input::control_character(text) {
+            return Err(NameError::Control(reason));
         }
         if self.ids.len() >= self.limit {
             return Err(NameError::TooMany { limit: self.limit });
@@ -220,15 +212,10 @@ mod tests {
     fn control_characters_and_too_many_names_are_refused() {
         let mut names = Interner::new(2);
         let e = names.id(b"Ac\x1b]0;x\x07es").unwrap_err();
-        assert_eq!(
-            e,
-            NameError::Control {
-                shown: "\\u{1b}".to_string(),
-                position: 3
-            }
-        );
-        assert!(!e.reason("team").contains('\x1b'));
-        assert!(matches!(names.id(b"A\0"), Err(NameError::Control { .. })));
+        let reason = e.reason("team");
+        assert!(reason.contains("\\u{1b} (character 3)"), "{reason}");
+        assert!(!reason.contains('\x1b'));
+        assert!(matches!(names.id(b"A\0"), Err(NameError::Control(_))));
         assert_eq!(names.id(b"\xff"), Err(NameError::NotUtf8));
         names.id(b"Aces").unwrap();
         names.id(b"Bats").unwrap();
