@@ -151,11 +151,15 @@ impl Design {
             ));
         }
         // The last round's date must keep a four-digit year too (a long season runs past New Year).
-        let last_day = season_day(last_season as i32, self.games - 1);
-        if last_day.year > last {
-            return Err(format!(
-                "the last game would be played on {last_day}: choose an earlier --first-season or fewer --games"
-            ));
+        let too_late = |when: String| {
+            format!(
+                "the last game would be played {when}: choose an earlier --first-season or fewer --games"
+            )
+        };
+        match season_day(last_season as i32, self.games - 1) {
+            Ok(day) if i32::from(day.year()) > last => return Err(too_late(format!("on {day}"))),
+            Ok(_) => {}
+            Err(_) => return Err(too_late("after 9999-12-31, past the calendar".to_string())),
         }
         Ok(())
     }

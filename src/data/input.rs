@@ -260,25 +260,10 @@ pub fn record_line(start: u64, end: u64, record: &csv::ByteRecord) -> u64 {
     end.saturating_sub(inside + 1).max(start)
 }
 
-/// Text for a message, with control characters (NUL, ESC, ...) and bidirectional overrides shown
-/// as `\u{..}` escapes, so that no message carries them raw to a terminal.
+/// Text for a message with control characters escaped (`crate::error::escape_controls`, which
+/// every printed message passes through too): a message held in a value stays safe to show.
 pub fn shown(text: &str) -> String {
-    let hostile = |c: char| {
-        c.is_control()
-            || matches!(c, '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
-    };
-    if !text.chars().any(hostile) {
-        return text.to_string();
-    }
-    text.chars()
-        .map(|c| {
-            if hostile(c) {
-                c.escape_unicode().to_string()
-            } else {
-                c.to_string()
-            }
-        })
-        .collect()
+    crate::error::escape_controls(text).into_owned()
 }
 
 /// Why a name cannot be used, if it holds a control character (NUL, ESC, ...; a tab or a line
@@ -290,7 +275,7 @@ pub fn control_character(name: &str) -> Option<String> {
         .find(|&(_, c)| c.is_control() && c != '\n' && c != '\t')?;
     Some(format!(
         "the name holds the control character {} (character {}); names must be printable text",
-        c.escape_unicode(),
+        shown(&c.to_string()),
         i + 1
     ))
 }

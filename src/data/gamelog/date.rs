@@ -95,6 +95,6 @@ mod tests {
     #[test]
     fn control_characters_are_never_echoed_raw() {
         let e = parse_iso_date(b"2024-\x1b[31m").unwrap_err();
-        assert!(!e.contains('\x1b') && e.contains("\\u{1b}"), "{e}");
+        assert!(!e.contains('\x1b') && e.contains("\\x1b"), "{e}");
     }
 }
