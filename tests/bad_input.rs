@@ -50,6 +50,21 @@ fn runcal_in(dir: Option<&Path>, args: &[&str]) -> Run {
     run
 }
 
+/// Run the binary with `text` on standard input.
+fn runcal_stdin(args: &[&str], text: &str) -> Run {
+    let out = Command::cargo_bin("runcal")
+        .unwrap()
+        .args(args)
+        .write_stdin(text)
+        .output()
+        .unwrap();
+    Run {
+        code: out.status.code().unwrap_or(-1),
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+    }
+}
+
 fn json(run: &Run) -> serde_json::Value {
     serde_json::from_str(&run.stdout)
         .unwrap_or_else(|e| panic!("stdout is not JSON ({e}):\n{}", run.stdout))
@@ -650,17 +665,11 @@ fn run_totals_too_large_to_count_are_refused() {
 #[test]
 fn bad_rows_on_standard_input_are_reported_as_stdin() {
     let text = "season,team,w,l,rs,ra\n2020,Aces,10,6,80,60\n2020,Bats,6,10,sixty,80\n";
-    let out = Command::cargo_bin("runcal")
-        .unwrap()
-        .args(["fit", "-", "--format", "json"])
-        .write_stdin(text)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&out.stderr);
-    assert_eq!(out.status.code(), Some(2));
-    assert!(
-        stderr.contains("<stdin>:3: column 'rs': expected a number, found 'sixty'"),
-        "{stderr}"
+    let run = runcal_stdin(&["fit", "-", "--format", "json"], text);
+    assert_refused(
+        &run,
+        "<stdin>:3:",
+        "column 'rs': expected a number, found 'sixty'",
     );
 }
 
@@ -737,6 +746,23 @@ fn outputs_never_overwrite_an_input() {
     assert_eq!(std::fs::read(&input).unwrap(), original);
 }
 
+/// A FIFO in `dir` and a thread that writes `text` through it once a reader opens it. The reader
+/// may stop early: a broken pipe is then the writer's expected end.
+#[cfg(unix)]
+fn fifo_with(dir: &Path, name: &str, text: String) -> (PathBuf, std::thread::JoinHandle<()>) {
+    let fifo = dir.join(name);
+    let status = std::process::Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .unwrap();
+    assert!(status.success());
+    let target = fifo.clone();
+    let writer = std::thread::spawn(move || {
+        let _ = std::fs::write(target, text);
+    });
+    (fifo, writer)
+}
+
 const SMALL_LOG: &str = "date,home,away,home_score,away_score
 2021-04-01,Aces,Bats,3,2
 2021-04-01,Cubs,Dogs,5,4
@@ -806,16 +832,7 @@ fn a_game_log_through_a_fifo_or_stdin_is_read_in_one_pass() {
     // Dates go back (04-02, then 04-01 again) and a game repeats: the duplicate check must see it
     // without reading the input twice.
     let text = format!("{SMALL_LOG}2021-04-01,Aces,Bats,3,2\n");
-    let fifo = dir.path().join("games.fifo");
-    let status = std::process::Command::new("mkfifo")
-        .arg(&fifo)
-        .status()
-        .unwrap();
-    assert!(status.success());
-    let writer = {
-        let (fifo, text) = (fifo.clone(), text.clone());
-        std::thread::spawn(move || std::fs::write(fifo, text))
-    };
+    let (fifo, writer) = fifo_with(dir.path(), "games.fifo", text.clone());
     let fifo_path = fifo.display().to_string();
     let run = runcal(&[
         "fit",
@@ -825,7 +842,7 @@ fn a_game_log_through_a_fifo_or_stdin_is_read_in_one_pass() {
         "--format",
         "json",
     ]);
-    writer.join().unwrap().unwrap();
+    writer.join().unwrap();
     assert_eq!(run.code, 0, "{}", run.stderr);
     assert_eq!(counts(&run), (4, 1));
     assert!(
@@ -835,18 +852,8 @@ fn a_game_log_through_a_fifo_or_stdin_is_read_in_one_pass() {
         "{}",
         run.stderr
     );
-    let out = Command::cargo_bin("runcal")
-        .unwrap()
-        .args(["fit", "--games", "-", "--format", "json"])
-        .write_stdin(text)
-        .output()
-        .unwrap();
-    assert_eq!(out.status.code(), Some(2));
-    let stderr = String::from_utf8_lossy(&out.stderr);
-    assert!(
-        stderr.contains("<stdin>:8: column 'date': duplicate game"),
-        "{stderr}"
-    );
+    let run = runcal_stdin(&["fit", "--games", "-", "--format", "json"], &text);
+    assert_refused(&run, "<stdin>:8:", "column 'date': duplicate game");
 }
 
 #[test]
@@ -902,19 +909,7 @@ fn a_date_beyond_the_held_games_rereads_a_file() {
 #[test]
 fn a_date_beyond_the_held_games_on_a_pipe_is_refused_with_advice() {
     let dir = tempfile::tempdir().unwrap();
-    let fifo = dir.path().join("far.fifo");
-    let status = std::process::Command::new("mkfifo")
-        .arg(&fifo)
-        .status()
-        .unwrap();
-    assert!(status.success());
-    let writer = {
-        let fifo = fifo.clone();
-        // The reader may stop early: a broken pipe is then the writer's expected end.
-        std::thread::spawn(move || {
-            let _ = std::fs::write(fifo, log_with_a_date_far_back());
-        })
-    };
+    let (fifo, writer) = fifo_with(dir.path(), "far.fifo", log_with_a_date_far_back());
     let opts = runcal::data::LoadOptions {
         max_held_games: 2,
         ..Default::default()
