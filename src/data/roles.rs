@@ -119,6 +119,16 @@ pub fn check_mappings(specs: &[RoleSpec], maps: &[Mapping]) -> Result<(), DataEr
     Ok(())
 }
 
+/// Headers for a message: the first twenty, and how many more (a file can have 400,000 columns).
+fn listed(headers: &[String]) -> String {
+    const SHOWN: usize = 20;
+    let mut text = headers[..headers.len().min(SHOWN)].join(", ");
+    if headers.len() > SHOWN {
+        text.push_str(&format!(", … ({} more)", headers.len() - SHOWN));
+    }
+    text
+}
+
 /// Match a file's headers to roles. `--map` wins over aliases; two columns claiming one role is an error.
 pub fn resolve(
     file: &str,
@@ -159,7 +169,7 @@ pub fn resolve(
                         file: file.to_string(),
                         role: spec.name,
                         header: crate::data::input::shown(&m.header),
-                        headers: crate::data::input::shown(&headers.join(", ")),
+                        headers: crate::data::input::shown(&listed(headers)),
                     });
                 }
             }
@@ -227,5 +237,33 @@ mod tests {
         assert_eq!(m.role, "runs_scored");
         assert_eq!(m.header, "R");
         assert!("nothing".parse::<Mapping>().is_err());
+    }
+
+    #[test]
+    fn wide_headers_are_matched_in_one_pass_and_listed_briefly() {
+        // 200,000 columns: a quadratic duplicate check would compare 2·10^10 pairs.
+        let mut headers: Vec<String> = (0..200_000).map(|i| format!("c{i}")).collect();
+        headers.push("C7".to_string());
+        let specs = [RoleSpec {
+            name: "team",
+            aliases: &["team"],
+            required: true,
+        }];
+        match resolve("wide.csv", &headers, &specs, &[]) {
+            Err(DataError::DuplicateHeader { first, second, .. }) => {
+                assert_eq!((first, second), (8, 200_001));
+            }
+            other => panic!("expected a duplicate header, got {other:?}"),
+        }
+        headers.pop();
+        let maps = ["team=nowhere".parse().unwrap()];
+        let e = resolve("wide.csv", &headers, &specs, &maps)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.ends_with("c19, … (199980 more))"),
+            "{}",
+            &e[e.len() - 60..]
+        );
     }
 }
