@@ -2,7 +2,6 @@
 
 pub use jiff::civil::Date;
 
-
 /// Parse exactly `YYYY-MM-DD` (jiff alone would also take `20210401` or a date with a time, which
 /// in a game log more likely means a wrong column). The error names what is wrong.
 pub fn parse_iso_date(text: &[u8]) -> Result<Date, String> {
