@@ -39,7 +39,7 @@ fn databank() -> (Dataset, Table) {
         maps: maps.iter().map(|m| m.parse().unwrap()).collect(),
         ..Default::default()
     };
-    let ds = data::load(&[databank_path()], false, None, &opts).unwrap();
+    let ds = data::load(&[databank_path()], false, &opts).unwrap();
     let t = Table::new(&ds.rows, TiePolicy::Half, Weighting::None);
     (ds, t)
 }
@@ -83,7 +83,7 @@ fn simulated_seasons(teams: usize, seasons: usize) -> Table {
     }
     file.flush().unwrap();
     let path = file.path().to_string_lossy().into_owned();
-    let ds = data::load(&[path], false, None, &LoadOptions::default()).unwrap();
+    let ds = data::load(&[path], false, &LoadOptions::default()).unwrap();
     Table::new(&ds.rows, TiePolicy::Half, Weighting::None)
 }
 
@@ -199,7 +199,7 @@ fn game_logs(c: &mut Criterion) {
     g.bench_function(format!("aggregate_{games}_games"), |b| {
         b.iter_batched(
             || vec![path.clone()],
-            |paths| data::load(&paths, true, None, &LoadOptions::default()).unwrap(),
+            |paths| data::load(&paths, true, &LoadOptions::default()).unwrap(),
             BatchSize::SmallInput,
         )
     });

@@ -368,6 +368,7 @@ impl Calibration {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::data::gamelog::days_earlier;
 
     fn date(s: &str) -> Date {
         s.parse().unwrap()
@@ -376,10 +377,10 @@ mod tests {
     #[test]
     fn a_week_earlier_crosses_months_years_and_leap_days() {
         // Calendar facts (GNU `date -d '2026-03-03 - 7 days'` prints 2026-02-24).
-        assert_eq!(date("2026-03-03").days_earlier(WEEK), date("2026-02-24"));
-        assert_eq!(date("2024-03-01").days_earlier(1), date("2024-02-29"));
-        assert_eq!(date("2026-01-03").days_earlier(WEEK), date("2025-12-27"));
-        assert_eq!(date("2026-07-15").days_earlier(0), date("2026-07-15"));
+        assert_eq!(days_earlier(date("2026-03-03"), WEEK), date("2026-02-24"));
+        assert_eq!(days_earlier(date("2024-03-01"), 1), date("2024-02-29"));
+        assert_eq!(days_earlier(date("2026-01-03"), WEEK), date("2025-12-27"));
+        assert_eq!(days_earlier(date("2026-07-15"), 0), date("2026-07-15"));
     }
 
     fn change(club: &str, woe: Option<f64>, proj: Option<f64>) -> ClubChange {

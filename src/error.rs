@@ -118,6 +118,13 @@ pub enum DataError {
         first: usize,
         second: usize,
     },
+    #[error(
+        "{file}: the file is {encoding} text, and runcal reads UTF-8; convert it first, for example: iconv -f {encoding} -t UTF-8 '{file}' > converted.csv"
+    )]
+    Encoding {
+        file: String,
+        encoding: &'static str,
+    },
     #[error("{file}: the file is empty (expected a header line)")]
     Empty { file: String },
     #[error("{what}: no rows left to use{hint}")]

@@ -372,11 +372,24 @@ impl Diagnostics {
         for w in &ds.warnings {
             self.warn(w);
         }
-        if ds.filtered_out > 0 {
-            self.debug(&format!(
-                "{} rows outside --seasons/--league/--as-of",
-                ds.filtered_out
+        if ds.unplayed_games > 0 {
+            let no_scores = ds.unplayed_games - ds.after_as_of;
+            let causes: Vec<String> = [
+                (no_scores, "with no scores yet"),
+                (ds.after_as_of, "dated after --as-of"),
+            ]
+            .iter()
+            .filter(|(n, _)| *n > 0)
+            .map(|(n, why)| format!("{n} {why}"))
+            .collect();
+            self.note(&format!(
+                "{} unplayed games set aside ({})",
+                ds.unplayed_games,
+                causes.join(", ")
             ));
+        }
+        if ds.filtered_out > 0 {
+            self.debug(&ds.left_out().join("; "));
         }
     }
 }

@@ -90,39 +90,22 @@ pub fn fingerprint(rows: &[TeamSeason]) -> String {
     format!("fnv1a64:{h:016x}")
 }
 
-/// Current time as RFC 3339 UTC, or `SOURCE_DATE_EPOCH` when set.
+/// Current time as RFC 3339 UTC to the second, or `SOURCE_DATE_EPOCH` (seconds since 1970) when
+/// set, so that a build or a test can pin it (reproducible-builds.org's convention).
 fn now_rfc3339() -> String {
-    let secs = std::env::var("SOURCE_DATE_EPOCH")
+    let pinned = std::env::var("SOURCE_DATE_EPOCH")
         .ok()
-        .and_then(|s| s.trim().parse::<i64>().ok())
-        .unwrap_or_else(|| {
-            std::time::SystemTime::now()
-                .duration_since(std::time::UNIX_EPOCH)
-                .map_or(0, |d| d.as_secs() as i64)
-        });
-    format_utc(secs)
+        .and_then(|s| s.trim().parse::<i64>().ok());
+    format_utc(pinned.unwrap_or_else(|| jiff::Timestamp::now().as_second()))
 }
 
-/// Seconds since the epoch as RFC 3339 UTC.
+/// Seconds since the epoch as RFC 3339 UTC (whole seconds: jiff then prints no fraction); a
+/// value beyond jiff's range (years -9999 to 9999) gives the current time instead.
 fn format_utc(secs: i64) -> String {
-    let days = secs.div_euclid(86_400);
-    let rem = secs.rem_euclid(86_400);
-    // Civil date from days since 1970-01-01 (H. Hinnant's algorithm).
-    let z = days + 719_468;
-    let era = z.div_euclid(146_097);
-    let doe = z.rem_euclid(146_097);
-    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-    let mp = (5 * doy + 2) / 153;
-    let day = doy - (153 * mp + 2) / 5 + 1;
-    let month = if mp < 10 { mp + 3 } else { mp - 9 };
-    let year = yoe + era * 400 + i64::from(month <= 2);
-    format!(
-        "{year:04}-{month:02}-{day:02}T{:02}:{:02}:{:02}Z",
-        rem / 3600,
-        rem % 3600 / 60,
-        rem % 60
-    )
+    jiff::Timestamp::from_second(secs)
+        .or_else(|_| jiff::Timestamp::from_second(jiff::Timestamp::now().as_second()))
+        .unwrap_or(jiff::Timestamp::UNIX_EPOCH)
+        .to_string()
 }
 
 impl Profile {

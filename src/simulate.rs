@@ -151,11 +151,15 @@ impl Design {
             ));
         }
         // The last round's date must keep a four-digit year too (a long season runs past New Year).
-        let last_day = season_day(last_season as i32, self.games - 1);
-        if last_day.year > last {
-            return Err(format!(
-                "the last game would be played on {last_day}: choose an earlier --first-season or fewer --games"
-            ));
+        let too_late = |when: String| {
+            format!(
+                "the last game would be played {when}: choose an earlier --first-season or fewer --games"
+            )
+        };
+        match season_day(last_season as i32, self.games - 1) {
+            Ok(day) if i32::from(day.year()) > last => return Err(too_late(format!("on {day}"))),
+            Ok(_) => {}
+            Err(_) => return Err(too_late("after 9999-12-31, past the calendar".to_string())),
         }
         Ok(())
     }
@@ -172,44 +176,20 @@ pub struct Game {
     pub away_score: u64,
 }
 
-/// The date `offset` days after 1 April of `year`.
-pub fn season_day(year: i32, offset: usize) -> Date {
-    let mut d = Date {
-        year,
-        month: 4,
-        day: 1,
-    };
-    for _ in 0..offset {
-        d = next_day(d);
-    }
-    d
-}
-
-fn next_day(d: Date) -> Date {
-    let last = match d.month {
-        4 | 6 | 9 | 11 => 30,
-        2 if (d.year % 4 == 0 && d.year % 100 != 0) || d.year % 400 == 0 => 29,
-        2 => 28,
-        _ => 31,
-    };
-    if d.day < last {
-        Date {
-            day: d.day + 1,
-            ..d
-        }
-    } else if d.month < 12 {
-        Date {
-            month: d.month + 1,
-            day: 1,
-            ..d
-        }
-    } else {
-        Date {
-            year: d.year + 1,
-            month: 1,
-            day: 1,
-        }
-    }
+/// The date `offset` days after 1 April of `year`; an error past the calendar's years (jiff's,
+/// -9999 to 9999), which a game log could not hold.
+pub fn season_day(year: i32, offset: usize) -> Result<Date, String> {
+    let out_of_range = || format!("season {year}, day {offset}: the date is beyond the year 9999");
+    let year = i16::try_from(year).map_err(|_| out_of_range())?;
+    let opening = Date::new(year, 4, 1).map_err(|_| out_of_range())?;
+    let days = i64::try_from(offset).map_err(|_| out_of_range())?;
+    opening
+        .checked_add(
+            jiff::Span::new()
+                .try_days(days)
+                .map_err(|_| out_of_range())?,
+        )
+        .map_err(|_| out_of_range())
 }
 
 /// Weibull-score games of a league, handed to `sink` in date order. Each round pairs every team once
@@ -224,17 +204,12 @@ pub fn games(design: &Design, mut sink: impl FnMut(&Game)) -> Result<(), String>
     let unit = Weibull::new(1.0, design.shape).map_err(|e| e.to_string())?;
     let n = design.teams;
     let mut order: Vec<usize> = (0..n).collect();
-    let mut date = season_day(design.first_season, 0);
     for s in 0..design.seasons {
         let season = design.first_season + s as i32;
         let offence: Vec<f64> = (0..n).map(|_| talent.sample(&mut rng).exp()).collect();
         let defence: Vec<f64> = (0..n).map(|_| talent.sample(&mut rng).exp()).collect();
         for round in 0..design.games {
-            if round == 0 {
-                date = season_day(season, 0);
-            } else {
-                date = next_day(date);
-            }
+            let date = season_day(season, round)?;
             // Fisher–Yates shuffle, then pair neighbours.
             for i in (1..n).rev() {
                 let j = rng.random_range(0..=i);
@@ -410,8 +385,8 @@ mod tests {
 
     #[test]
     fn days_roll_over_months_and_years() {
-        assert_eq!(season_day(2026, 30).to_string(), "2026-05-01");
-        assert_eq!(season_day(2026, 275).to_string(), "2027-01-01");
+        assert_eq!(season_day(2026, 30).unwrap().to_string(), "2026-05-01");
+        assert_eq!(season_day(2026, 275).unwrap().to_string(), "2027-01-01");
     }
 
     #[test]

@@ -50,6 +50,21 @@ fn runcal_in(dir: Option<&Path>, args: &[&str]) -> Run {
     run
 }
 
+/// Run the binary with `text` on standard input.
+fn runcal_stdin(args: &[&str], text: &str) -> Run {
+    let out = Command::cargo_bin("runcal")
+        .unwrap()
+        .args(args)
+        .write_stdin(text)
+        .output()
+        .unwrap();
+    Run {
+        code: out.status.code().unwrap_or(-1),
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+    }
+}
+
 fn json(run: &Run) -> serde_json::Value {
     serde_json::from_str(&run.stdout)
         .unwrap_or_else(|e| panic!("stdout is not JSON ({e}):\n{}", run.stdout))
@@ -194,6 +209,14 @@ fn check_case(case: &Case) -> Vec<String> {
         check(
             run.stderr.contains(&case.words),
             format!("{mode} stderr lacks '{}':\n{}", case.words, run.stderr),
+        );
+        // Control characters of the input are shown escaped, never passed to the terminal.
+        check(
+            !run.stderr.chars().any(|c| c.is_control() && c != '\n'),
+            format!(
+                "{mode} stderr holds a raw control character: {:?}",
+                run.stderr
+            ),
         );
     }
 
@@ -642,17 +665,11 @@ fn run_totals_too_large_to_count_are_refused() {
 #[test]
 fn bad_rows_on_standard_input_are_reported_as_stdin() {
     let text = "season,team,w,l,rs,ra\n2020,Aces,10,6,80,60\n2020,Bats,6,10,sixty,80\n";
-    let out = Command::cargo_bin("runcal")
-        .unwrap()
-        .args(["fit", "-", "--format", "json"])
-        .write_stdin(text)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&out.stderr);
-    assert_eq!(out.status.code(), Some(2));
-    assert!(
-        stderr.contains("<stdin>:3: column 'rs': expected a number, found 'sixty'"),
-        "{stderr}"
+    let run = runcal_stdin(&["fit", "-", "--format", "json"], text);
+    assert_refused(
+        &run,
+        "<stdin>:3:",
+        "column 'rs': expected a number, found 'sixty'",
     );
 }
 
@@ -727,4 +744,205 @@ fn outputs_never_overwrite_an_input() {
         serde_json::from_slice(&std::fs::read(dir.path().join("b.json")).unwrap()).unwrap();
     assert_eq!(written["rows_used"].as_u64(), Some(4));
     assert_eq!(std::fs::read(&input).unwrap(), original);
+}
+
+/// A FIFO in `dir` and a thread that writes `text` through it once a reader opens it. The reader
+/// may stop early: a broken pipe is then the writer's expected end.
+#[cfg(unix)]
+fn fifo_with(dir: &Path, name: &str, text: String) -> (PathBuf, std::thread::JoinHandle<()>) {
+    let fifo = dir.join(name);
+    let status = std::process::Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .unwrap();
+    assert!(status.success());
+    let target = fifo.clone();
+    let writer = std::thread::spawn(move || {
+        let _ = std::fs::write(target, text);
+    });
+    (fifo, writer)
+}
+
+const SMALL_LOG: &str = "date,home,away,home_score,away_score
+2021-04-01,Aces,Bats,3,2
+2021-04-01,Cubs,Dogs,5,4
+2021-04-02,Bats,Cubs,1,0
+2021-04-02,Dogs,Aces,2,6
+2021-04-03,Aces,Cubs,1,4
+2021-04-03,Bats,Dogs,7,3
+";
+
+#[test]
+fn a_quoted_field_split_into_short_lines_is_refused_past_the_field_limit() {
+    let dir = tempfile::tempdir().unwrap();
+    // 2 MB of quoted name in 100-byte lines: every line is short, the field is not.
+    let mut text = String::from("date,home,away,home_score,away_score\n2021-04-01,Aces,Bats,3,2\n");
+    text.push_str("2021-04-02,\"");
+    for _ in 0..20_000 {
+        text.push_str(&"x".repeat(99));
+        text.push('\n');
+    }
+    text.push_str("\",Cubs,1,0\n");
+    let path = write(dir.path(), "field.csv", &text);
+    for extra in [None, Some("--skip-invalid")] {
+        let mut args = vec!["fit", "--games", path.as_str()];
+        args.extend(extra);
+        // 1048576 bytes = 1 MiB, DEFAULT_MAX_FIELD_BYTES in src/data/input.rs.
+        assert_refused(
+            &runcal(&args),
+            &format!("{path}:3:"),
+            "a quoted field opens here and runs past 1048576 bytes",
+        );
+    }
+}
+
+#[test]
+fn one_game_log_given_twice_is_a_duplicate_across_files() {
+    let dir = tempfile::tempdir().unwrap();
+    let a = write(dir.path(), "week1.csv", SMALL_LOG);
+    let b = write(
+        dir.path(),
+        "week1-2.csv",
+        &format!("{SMALL_LOG}2021-04-04,Dogs,Aces,2,6\n"),
+    );
+    let run = runcal(&["fit", "--games", &a, &b]);
+    assert_refused(
+        &run,
+        &format!("{b}:2:"),
+        &format!("duplicate game 2021-04-01 Bats at Aces (first at {a}:2)"),
+    );
+    let run = runcal(&[
+        "fit",
+        "--games",
+        &a,
+        &a,
+        "--skip-invalid",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    // Every game of the second copy is a duplicate: 4 teams, 6 rejected games.
+    assert_eq!(counts(&run), (4, 6));
+}
+
+#[cfg(unix)]
+#[test]
+fn a_game_log_through_a_fifo_or_stdin_is_read_in_one_pass() {
+    let dir = tempfile::tempdir().unwrap();
+    // Dates go back (04-02, then 04-01 again) and a game repeats: the duplicate check must see it
+    // without reading the input twice.
+    let text = format!("{SMALL_LOG}2021-04-01,Aces,Bats,3,2\n");
+    let (fifo, writer) = fifo_with(dir.path(), "games.fifo", text.clone());
+    let fifo_path = fifo.display().to_string();
+    let run = runcal(&[
+        "fit",
+        "--games",
+        &fifo_path,
+        "--skip-invalid",
+        "--format",
+        "json",
+    ]);
+    writer.join().unwrap();
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert_eq!(counts(&run), (4, 1));
+    assert!(
+        run.stderr.contains(&format!(
+            "{fifo_path}:8: column 'date': duplicate game 2021-04-01 Bats at Aces (first at line 2)"
+        )),
+        "{}",
+        run.stderr
+    );
+    let run = runcal_stdin(&["fit", "--games", "-", "--format", "json"], &text);
+    assert_refused(&run, "<stdin>:8:", "column 'date': duplicate game");
+}
+
+#[test]
+fn one_column_cannot_play_two_roles() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = write(
+        dir.path(),
+        "s.csv",
+        "season,team,w,l,runs_scored,ra\n2020,Aces,10,6,80,60\n2020,Bats,6,10,60,80\n",
+    );
+    let run = runcal(&["fit", &path, "--map", "wins=runs_scored"]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr
+            .contains("--map wins=runs_scored: a column 'runs_scored' plays runs_scored already"),
+        "{}",
+        run.stderr
+    );
+    let run = runcal(&["fit", &path, "--map", "wins=w", "--map", "losses=W"]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr
+            .contains("--map wins=w and --map losses=W give one column two roles"),
+        "{}",
+        run.stderr
+    );
+}
+
+/// A log whose first date comes back after four later dates.
+fn log_with_a_date_far_back() -> String {
+    format!(
+        "{SMALL_LOG}2021-04-04,Cubs,Aces,2,1\n2021-04-05,Dogs,Bats,3,5\n2021-04-01,Aces,Bats,3,2\n"
+    )
+}
+
+#[test]
+fn a_date_beyond_the_held_games_rereads_a_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = write(dir.path(), "far.csv", &log_with_a_date_far_back());
+    let opts = runcal::data::LoadOptions {
+        skip_invalid: true,
+        // Two games held: 2021-04-01 is let go long before it comes back on line 10.
+        max_held_games: 2,
+        ..Default::default()
+    };
+    let ds = runcal::data::load(std::slice::from_ref(&path), true, &opts).unwrap();
+    let lines: Vec<Option<u64>> = ds.rejected.iter().map(|r| r.at.line).collect();
+    assert_eq!(lines, [Some(10)], "{:?}", ds.rejected);
+    assert!(ds.rejected[0].reason.contains("first at line 2"));
+}
+
+#[cfg(unix)]
+#[test]
+fn a_date_beyond_the_held_games_on_a_pipe_is_refused_with_advice() {
+    let dir = tempfile::tempdir().unwrap();
+    let (fifo, writer) = fifo_with(dir.path(), "far.fifo", log_with_a_date_far_back());
+    let opts = runcal::data::LoadOptions {
+        max_held_games: 2,
+        ..Default::default()
+    };
+    let path = fifo.display().to_string();
+    let err = runcal::data::load(std::slice::from_ref(&path), true, &opts).unwrap_err();
+    writer.join().unwrap();
+    let msg = err.to_string();
+    assert!(
+        msg.starts_with(&format!("{path}:10: column 'date': ")),
+        "{msg}"
+    );
+    assert!(msg.contains("sort the game log by date"), "{msg}");
+}
+
+#[test]
+fn distinct_team_names_are_bounded() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("date,home,away,home_score,away_score\n");
+    for i in 0..30 {
+        text.push_str(&format!("2021-04-01,H{i},A{i},3,2\n"));
+    }
+    let path = write(dir.path(), "many.csv", &text);
+    let opts = runcal::data::LoadOptions {
+        max_names: 20,
+        ..Default::default()
+    };
+    let err = runcal::data::load(std::slice::from_ref(&path), true, &opts).unwrap_err();
+    // Names 21 and 22 are H10 and A10, on line 12.
+    assert!(
+        err.to_string().starts_with(&format!(
+            "{path}:12: column 'home': more than 20 distinct team names"
+        )),
+        "{err}"
+    );
 }

@@ -52,7 +52,7 @@ fn simulate_refuses_sizes_and_parameters_outside_its_limits() {
         ("--first-season 9999 --game-log", "leave the years 1–9999"),
         (
             "--first-season 9999 --seasons 1 --games 300 --game-log",
-            "the last game would be played on 10000-",
+            "the last game would be played after 9999-12-31",
         ),
         (
             "--truth pythagorean:-2",

@@ -24,7 +24,6 @@ use std::io::Write;
 
 use proptest::prelude::*;
 use proptest::sample::select;
-use runcal::data::gamelog::Date;
 use runcal::data::{self, Dataset, LoadOptions, Table, TeamSeason, TiePolicy, Weighting};
 use runcal::error::{DataError, FitError, Location};
 use runcal::fit::{self, Loss, loss, solve, stderr};
@@ -183,8 +182,8 @@ fn soup() -> impl Strategy<Value = Vec<u8>> {
 }
 
 fn load_both(path: &str, games: bool) -> (Result<Dataset, DataError>, Result<Dataset, DataError>) {
-    let strict = data::load(&[path.to_string()], games, None, &options(false));
-    let skip = data::load(&[path.to_string()], games, None, &options(true));
+    let strict = data::load(&[path.to_string()], games, &options(false));
+    let skip = data::load(&[path.to_string()], games, &options(true));
     (strict, skip)
 }
 
@@ -608,6 +607,10 @@ impl SeasonFile {
                 } else {
                     decisions
                 };
+                // More decisions than games played, beyond two forfeits, is a row error.
+                if decisions > games + 2 {
+                    return None;
+                }
                 Some(TeamSeason {
                     season,
                     league: (!league.is_empty()).then_some(league),
@@ -793,6 +796,8 @@ struct GameExpect {
     bytes: Vec<u8>,
     rows: Vec<TeamSeason>,
     rejected_lines: Vec<u64>,
+    /// Rows with both scores empty, and games after the as-of date.
+    unplayed: u64,
 }
 
 impl GameFile {
@@ -813,6 +818,7 @@ impl GameFile {
         let mut bad_lines = Vec::new();
         let mut seen = HashSet::new();
         let mut totals: BTreeMap<(i32, Option<String>, String), Acc> = BTreeMap::new();
+        let mut unplayed = 0;
         for r in &self.rows {
             bytes.extend(nl);
             line += 1;
@@ -844,17 +850,25 @@ impl GameFile {
                 if home == away {
                     return None;
                 }
-                let (hs, aw) = (r.home_score.value?, r.away_score.value?);
                 let season = if self.with_season {
                     r.season.value?
                 } else {
                     2021
                 };
                 let game = if self.with_game { r.game.value? } else { 0 };
-                Some((day, home, away, hs, aw, season, game))
+                // Both scores empty: a game not played yet, set aside (not an error).
+                if r.home_score.text.is_empty() && r.away_score.text.is_empty() {
+                    return Some(None);
+                }
+                let (hs, aw) = (r.home_score.value?, r.away_score.value?);
+                Some(Some((day, home, away, hs, aw, season, game)))
             })();
-            let Some((day, home, away, hs, aw, season, game)) = parsed else {
+            let Some(parsed) = parsed else {
                 bad_lines.push(line);
+                continue;
+            };
+            let Some((day, home, away, hs, aw, season, game)) = parsed else {
+                unplayed += 1;
                 continue;
             };
             if !seen.insert((day, home, away, game)) {
@@ -862,6 +876,7 @@ impl GameFile {
                 continue;
             }
             if self.as_of.is_some_and(|cut| day > cut) {
+                unplayed += 1;
                 continue;
             }
             let league = (self.with_league && !r.league.is_empty()).then(|| r.league.clone());
@@ -917,6 +932,7 @@ impl GameFile {
             bytes,
             rows,
             rejected_lines: bad_lines,
+            unplayed,
         }
     }
 }
@@ -929,18 +945,20 @@ proptest! {
         let (_f, path) = temp_file(b"");
         let want = file.expect(&path);
         std::fs::write(&path, &want.bytes).unwrap();
-        let as_of = file.as_of.map(|d| Date { year: 2021, month: 4, day: d });
+        let as_of = file.as_of.map(|d| jiff::civil::date(2021, 4, d as i8));
+        let with_as_of = |skip_invalid| LoadOptions { as_of, ..options(skip_invalid) };
         let paths = [path.clone()];
-        let skip = data::load(&paths, true, as_of, &options(true))
+        let skip = data::load(&paths, true, &with_as_of(true))
             .map_err(|e| TestCaseError::fail(format!("skip-invalid load failed: {e}")))?;
         prop_assert_eq!(&skip.rows, &want.rows);
         let lines: Vec<u64> = skip.rejected.iter().map(|r| r.at.line.unwrap_or(0)).collect();
         prop_assert_eq!(&lines, &want.rejected_lines, "rejections: {:#?}", skip.rejected);
+        prop_assert_eq!(skip.unplayed_games, want.unplayed);
         // Every game is won by one side and lost by the other, or tied by both (teams set aside for
         // scoring nothing only tied).
         let sum = |f: fn(&TeamSeason) -> u64| skip.rows.iter().map(f).sum::<u64>();
         prop_assert_eq!(sum(|r| r.wins), sum(|r| r.losses));
-        match data::load(&paths, true, as_of, &options(false)) {
+        match data::load(&paths, true, &with_as_of(false)) {
             Ok(ds) => {
                 prop_assert!(want.rejected_lines.is_empty());
                 prop_assert_eq!(ds.rows, want.rows);

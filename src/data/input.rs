@@ -1,5 +1,5 @@
-//! Opening inputs: files or `-` for standard input, with a bound on line length so that hostile
-//! input cannot exhaust memory.
+//! Opening inputs: files or `-` for standard input, with bounds on line and field length so that
+//! hostile input cannot exhaust memory, and a clear refusal of UTF-16 and UTF-32 text.
 
 use std::fs::File;
 use std::io::{self, BufReader, Read};
@@ -8,6 +8,23 @@ use crate::error::DataError;
 
 /// Longest physical line accepted, in bytes, unless the caller says otherwise.
 pub const DEFAULT_MAX_LINE_BYTES: usize = 1 << 20;
+
+/// Longest field accepted, in bytes, unless the caller says otherwise. Only a quoted field can
+/// span lines, so only quoted fields can pass the line limit and still grow past this.
+pub const DEFAULT_MAX_FIELD_BYTES: usize = 1 << 20;
+
+/// Where the reader is within a csv field (quotes as RFC 4180 has them).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum FieldState {
+    /// At the start of a field.
+    Start,
+    Unquoted,
+    Quoted,
+    /// A quote inside a quoted field: the closing one, or the first of a doubled `""`.
+    QuoteInQuoted,
+    /// Blanks after a closing quote (csv keeps them; trimming drops them).
+    AfterQuote,
+}
 
 /// A reader that fails once a physical line grows beyond a limit.
 ///
@@ -23,10 +40,22 @@ pub struct LineLimit<R> {
     after_cr: bool,
     /// Bytes have been passed on since the last line end.
     open_line: bool,
+    field_limit: usize,
+    field: FieldState,
+    /// Bytes of the current quoted field so far, and the line it opened on.
+    field_bytes: usize,
+    field_line: u64,
+    /// Fields with text after their closing quote (`"Aces"junk`): how many, and the first's line.
+    text_after_quote: u64,
+    first_text_after_quote: u64,
 }
 
 impl<R: Read> LineLimit<R> {
     pub fn new(inner: R, limit: usize) -> Self {
+        Self::with_field_limit(inner, limit, usize::MAX)
+    }
+
+    pub fn with_field_limit(inner: R, limit: usize, field_limit: usize) -> Self {
         LineLimit {
             inner,
             limit,
@@ -34,28 +63,107 @@ impl<R: Read> LineLimit<R> {
             line: 1,
             after_cr: false,
             open_line: false,
+            field_limit,
+            field: FieldState::Start,
+            field_bytes: 0,
+            field_line: 1,
+            text_after_quote: 0,
+            first_text_after_quote: 0,
         }
     }
+
+    /// What the reader noticed but let pass, as warnings naming `file`.
+    pub fn warnings(&self, file: &str) -> Vec<String> {
+        if self.text_after_quote == 0 {
+            return Vec::new();
+        }
+        vec![format!(
+            "{file}:{}: text follows a closing quote (as in \"Aces\"junk), which csv joins to the field; quote the whole field or drop the quotes ({} fields like this)",
+            self.first_text_after_quote, self.text_after_quote
+        )]
+    }
+
+    fn too_long(&self, what: Stretch) -> io::Error {
+        let (line, limit) = match what {
+            Stretch::Line => (self.line, self.limit),
+            Stretch::QuotedField => (self.field_line, self.field_limit),
+        };
+        io::Error::new(io::ErrorKind::InvalidData, TooLong { what, line, limit })
+    }
+
+    /// Follow the quotes of one byte (line ends already turned into `\n`).
+    fn track_field(&mut self, b: u8) -> io::Result<()> {
+        use FieldState::*;
+        let ends_field = b == b',' || b == b'\n';
+        self.field = match (self.field, b) {
+            (Start, b'"') => {
+                self.field_bytes = 0;
+                self.field_line = self.line;
+                Quoted
+            }
+            (Start | Unquoted | AfterQuote | QuoteInQuoted, _) if ends_field => Start,
+            (Start | Unquoted, _) => Unquoted,
+            (Quoted, b'"') => QuoteInQuoted,
+            (Quoted, _) | (QuoteInQuoted, b'"') => {
+                self.field_bytes += 1;
+                if self.field_bytes > self.field_limit {
+                    return Err(self.too_long(Stretch::QuotedField));
+                }
+                Quoted
+            }
+            (QuoteInQuoted | AfterQuote, b' ' | b'\t') => AfterQuote,
+            (QuoteInQuoted | AfterQuote, _) => {
+                if self.text_after_quote == 0 {
+                    self.first_text_after_quote = self.field_line;
+                }
+                self.text_after_quote += 1;
+                Unquoted
+            }
+        };
+        Ok(())
+    }
+}
+
+/// What a [`LineLimit`] reader found too long.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Stretch {
+    Line,
+    /// A quoted field, which may span lines.
+    QuotedField,
 }
 
 /// The error a [`LineLimit`] reader fails with, so that callers can name the line.
 #[derive(Debug)]
-pub struct LineTooLong {
+pub struct TooLong {
+    pub what: Stretch,
+    /// The line that is too long, or on which the quoted field opens.
     pub line: u64,
     pub limit: usize,
 }
 
-impl std::fmt::Display for LineTooLong {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        write!(
-            f,
-            "line {} is longer than {} bytes (the limit for one line)",
-            self.line, self.limit
-        )
+impl TooLong {
+    /// The problem, for a message that names the line already.
+    pub fn reason(&self) -> String {
+        match self.what {
+            Stretch::Line => format!(
+                "the line is longer than {} bytes (the limit for one line)",
+                self.limit
+            ),
+            Stretch::QuotedField => format!(
+                "a quoted field opens here and runs past {} bytes (the limit for one field); is a closing quote missing?",
+                self.limit
+            ),
+        }
     }
 }
 
-impl std::error::Error for LineTooLong {}
+impl std::fmt::Display for TooLong {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "line {}: {}", self.line, self.reason())
+    }
+}
+
+impl std::error::Error for TooLong {}
 
 impl<R: Read> Read for LineLimit<R> {
     fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
@@ -72,17 +180,22 @@ impl<R: Read> Read for LineLimit<R> {
             // Fast path: a chunk with no `\r`, not right after one, and no longer than the limit
             // passes through unchanged; only the line count and the open line's length need
             // updating, and only the chunk's first line can exceed the limit.
-            if !self.after_cr && n <= self.limit && !buf[..n].contains(&b'\r') {
+            // Quotes take the slow path too, unless the chunk starts outside a quoted field and
+            // has none: its fields then end within its lines.
+            if !self.after_cr
+                && n <= self.limit
+                && matches!(self.field, FieldState::Start | FieldState::Unquoted)
+                && !buf[..n].contains(&b'\r')
+                && !buf[..n].contains(&b'"')
+            {
                 let chunk = &buf[..n];
+                self.field = match chunk[n - 1] {
+                    b',' | b'\n' => FieldState::Start,
+                    _ => FieldState::Unquoted,
+                };
                 let first = chunk.iter().position(|&b| b == b'\n');
                 if self.current + first.unwrap_or(n) > self.limit {
-                    return Err(io::Error::new(
-                        io::ErrorKind::InvalidData,
-                        LineTooLong {
-                            line: self.line,
-                            limit: self.limit,
-                        },
-                    ));
+                    return Err(self.too_long(Stretch::Line));
                 }
                 match first {
                     None => {
@@ -114,21 +227,17 @@ impl<R: Read> Read for LineLimit<R> {
                 }
                 if b == b'\n' || b == b'\r' {
                     buf[kept] = b'\n';
+                    self.track_field(b'\n')?;
                     self.open_line = false;
                     self.current = 0;
                     self.line += 1;
                 } else {
+                    self.track_field(b)?;
                     buf[kept] = b;
                     self.open_line = true;
                     self.current += 1;
                     if self.current > self.limit {
-                        return Err(io::Error::new(
-                            io::ErrorKind::InvalidData,
-                            LineTooLong {
-                                line: self.line,
-                                limit: self.limit,
-                            },
-                        ));
+                        return Err(self.too_long(Stretch::Line));
                     }
                 }
                 kept += 1;
@@ -151,6 +260,67 @@ pub fn record_line(start: u64, end: u64, record: &csv::ByteRecord) -> u64 {
     end.saturating_sub(inside + 1).max(start)
 }
 
+/// Text for a message with control characters escaped (`crate::error::escape_controls`, which
+/// every printed message passes through too): a message held in a value stays safe to show.
+pub fn shown(text: &str) -> String {
+    crate::error::escape_controls(text).into_owned()
+}
+
+/// Why a name cannot be used, if it holds a control character (NUL, ESC, ...; a tab or a line
+/// break inside a quoted name is text, and kept): the character escaped and its 1-based position.
+pub fn control_character(name: &str) -> Option<String> {
+    let (i, c) = name
+        .chars()
+        .enumerate()
+        .find(|&(_, c)| c.is_control() && c != '\n' && c != '\t')?;
+    Some(format!(
+        "the name holds the control character {} (character {}); names must be printable text",
+        shown(&c.to_string()),
+        i + 1
+    ))
+}
+
+/// Whether a path names a regular file (which can be read twice), not `-`, a pipe or a device.
+pub fn is_regular_file(path: &str) -> bool {
+    path != "-" && std::fs::metadata(path).is_ok_and(|m| m.is_file())
+}
+
+/// A file's header, refused when the file is empty.
+pub fn read_headers<R: Read>(
+    rdr: &mut csv::Reader<R>,
+    file: &str,
+) -> Result<Vec<String>, DataError> {
+    let headers: Vec<String> = match rdr.byte_headers() {
+        Ok(h) => h
+            .iter()
+            .map(|f| String::from_utf8_lossy(f).trim().to_string())
+            .collect(),
+        Err(e) => return Err(csv_error(file, e)),
+    };
+    if headers.is_empty() || (headers.len() == 1 && headers[0].is_empty()) {
+        return Err(DataError::Empty {
+            file: file.to_string(),
+        });
+    }
+    Ok(headers)
+}
+
+/// The encoding of text that starts with these bytes, when it is UTF-16 or UTF-32 (by its
+/// byte-order mark, or by the NUL bytes that ASCII characters carry in those encodings).
+fn wide_encoding(head: &[u8]) -> Option<&'static str> {
+    match head {
+        [0, 0, 0xfe, 0xff, ..] => Some("UTF-32BE"),
+        [0xff, 0xfe, 0, 0, ..] => Some("UTF-32LE"),
+        [0xfe, 0xff, ..] => Some("UTF-16BE"),
+        [0xff, 0xfe, ..] => Some("UTF-16LE"),
+        [a, 0, 0, 0, ..] if *a != 0 => Some("UTF-32LE"),
+        [0, 0, 0, a, ..] if *a != 0 => Some("UTF-32BE"),
+        [a, 0, b, 0, ..] if *a != 0 && *b != 0 => Some("UTF-16LE"),
+        [0, a, 0, b, ..] if *a != 0 && *b != 0 => Some("UTF-16BE"),
+        _ => None,
+    }
+}
+
 /// The display name of an input path.
 pub fn display_name(path: &str) -> String {
     if path == "-" {
@@ -160,18 +330,49 @@ pub fn display_name(path: &str) -> String {
     }
 }
 
-/// Open a path (or `-`) for reading.
-pub fn open(path: &str, max_line_bytes: usize) -> Result<Box<dyn Read>, DataError> {
-    let reader: Box<dyn Read> = if path == "-" {
-        Box::new(io::stdin().lock())
-    } else {
-        let file = File::open(path).map_err(|source| DataError::Io {
-            file: path.to_string(),
-            source,
-        })?;
-        Box::new(BufReader::with_capacity(1 << 16, file))
+/// Open a path (or `-`) for reading, within the line and field limits; UTF-16 and UTF-32 text
+/// is refused with the command that converts it.
+pub fn open(
+    path: &str,
+    max_line_bytes: usize,
+    max_field_bytes: usize,
+) -> Result<LineLimit<Box<dyn Read + Send>>, DataError> {
+    let io_error = |source| DataError::Io {
+        file: display_name(path),
+        source,
     };
-    Ok(Box::new(LineLimit::new(reader, max_line_bytes)))
+    let mut reader: Box<dyn Read + Send> = if path == "-" {
+        Box::new(io::stdin())
+    } else {
+        Box::new(BufReader::with_capacity(
+            1 << 16,
+            File::open(path).map_err(io_error)?,
+        ))
+    };
+    // The first bytes are read here (read once, then handed on), so that a pipe is never reopened.
+    let mut head = [0u8; 4];
+    let mut got = 0;
+    while got < head.len() {
+        match reader.read(&mut head[got..]) {
+            Ok(0) => break,
+            Ok(n) => got += n,
+            Err(e) if e.kind() == io::ErrorKind::Interrupted => {}
+            Err(e) => return Err(io_error(e)),
+        }
+    }
+    if let Some(encoding) = wide_encoding(&head[..got]) {
+        return Err(DataError::Encoding {
+            file: display_name(path),
+            encoding,
+        });
+    }
+    let reader: Box<dyn Read + Send> =
+        Box::new(io::Cursor::new(head[..got].to_vec()).chain(reader));
+    Ok(LineLimit::with_field_limit(
+        reader,
+        max_line_bytes,
+        max_field_bytes,
+    ))
 }
 
 /// Turn a csv error into a data error at the right place.
@@ -179,17 +380,14 @@ pub fn csv_error(file: &str, err: csv::Error) -> DataError {
     let line = err.position().map(|p| p.line());
     let reason = match err.kind() {
         csv::ErrorKind::Io(e) => {
-            if let Some(long) = e.get_ref().and_then(|x| x.downcast_ref::<LineTooLong>()) {
+            if let Some(long) = e.get_ref().and_then(|x| x.downcast_ref::<TooLong>()) {
                 return DataError::Rejected(crate::error::Rejection {
                     at: crate::error::Location {
                         file: file.to_string(),
                         line: Some(long.line),
                         column: None,
                     },
-                    reason: format!(
-                        "the line is longer than {} bytes (the limit for one line)",
-                        long.limit
-                    ),
+                    reason: long.reason(),
                 });
             }
             if e.kind() == io::ErrorKind::InvalidData {

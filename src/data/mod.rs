@@ -1,5 +1,6 @@
 //! Reading input: column roles, header normalisation, `--map`, validation, game-log aggregation.
-//! Nothing here prints; warnings and rejections are returned to the caller.
+//! Nothing here prints; warnings, rejections and what the filters left out are returned to the
+//! caller in the [`Dataset`].
 
 pub mod gamelog;
 pub mod input;
@@ -73,10 +74,26 @@ pub struct LoadOptions {
     pub maps: Vec<Mapping>,
     pub seasons: Option<SeasonRange>,
     pub league: Option<String>,
+    /// Game logs only: games dated after this day count as not played yet.
+    pub as_of: Option<gamelog::Date>,
     pub skip_invalid: bool,
     pub max_rows: u64,
+    /// Longest physical line, and longest field (a quoted field may span lines), in bytes.
     pub max_line_bytes: usize,
+    pub max_field_bytes: usize,
+    /// Most distinct team names (and, separately, league names) in one load.
+    pub max_names: usize,
+    /// Game logs: games of earlier dates the duplicate check holds in memory (see `gamelog`).
+    pub max_held_games: usize,
 }
+
+/// Most distinct team names of one load unless the caller says otherwise: far beyond any league's
+/// history, far below what would exhaust memory.
+pub const DEFAULT_MAX_NAMES: usize = 100_000;
+
+/// Games of earlier dates the game-log duplicate check holds unless the caller says otherwise
+/// (32 bytes each and the map: about 1.5 MB; a larger budget costs the date-ordered path time).
+pub const DEFAULT_MAX_HELD_GAMES: usize = 1 << 15;
 
 impl Default for LoadOptions {
     fn default() -> Self {
@@ -84,24 +101,38 @@ impl Default for LoadOptions {
             maps: Vec::new(),
             seasons: None,
             league: None,
+            as_of: None,
             skip_invalid: false,
             max_rows: 50_000_000,
             max_line_bytes: input::DEFAULT_MAX_LINE_BYTES,
+            max_field_bytes: input::DEFAULT_MAX_FIELD_BYTES,
+            max_names: DEFAULT_MAX_NAMES,
+            max_held_games: DEFAULT_MAX_HELD_GAMES,
         }
     }
 }
 
+/// The filter that left a row out.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Filter {
+    Seasons,
+    League,
+}
+
 impl LoadOptions {
-    fn keeps(&self, season: i32, league: Option<&str>) -> bool {
+    /// Which filter leaves out a row of this season and league, if any.
+    pub fn left_out_by(&self, season: i32, league: Option<&str>) -> Option<Filter> {
         if let Some(r) = self.seasons
             && (season < r.first || season > r.last)
         {
-            return false;
+            return Some(Filter::Seasons);
         }
-        if let Some(want) = &self.league {
-            return league.is_some_and(|l| l.eq_ignore_ascii_case(want));
+        if let Some(want) = &self.league
+            && !league.is_some_and(|l| l.eq_ignore_ascii_case(want))
+        {
+            return Some(Filter::League);
         }
-        true
+        None
     }
 }
 
@@ -113,6 +144,13 @@ pub struct Dataset {
     pub warnings: Vec<String>,
     /// Rows left out by `--seasons` or `--league` (not errors).
     pub filtered_out: u64,
+    /// Of `filtered_out`, the rows `--league` left out (the rest: `--seasons`).
+    pub filtered_by_league: u64,
+    /// Game logs: games not played yet, set aside (not errors): rows whose two scores are both
+    /// empty (a schedule's rows) and games dated after `--as-of`.
+    pub unplayed_games: u64,
+    /// Of `unplayed_games`, the games dated after `--as-of`.
+    pub after_as_of: u64,
 }
 
 impl Dataset {
@@ -124,16 +162,38 @@ impl Dataset {
         s
     }
 
+    /// What was set aside without being an error, one phrase per cause, each naming the filter
+    /// (or the missing scores) that set it aside.
+    pub fn left_out(&self) -> Vec<String> {
+        let mut phrases = Vec::new();
+        if self.after_as_of > 0 {
+            phrases.push(format!("{} games were after --as-of", self.after_as_of));
+        }
+        let no_scores = self.unplayed_games - self.after_as_of;
+        if no_scores > 0 {
+            phrases.push(format!("{no_scores} games have no scores yet (unplayed)"));
+        }
+        let by_seasons = self.filtered_out - self.filtered_by_league;
+        if by_seasons > 0 {
+            phrases.push(format!("{by_seasons} rows were outside --seasons"));
+        }
+        if self.filtered_by_league > 0 {
+            phrases.push(format!(
+                "{} rows were outside --league",
+                self.filtered_by_league
+            ));
+        }
+        phrases
+    }
+
     /// Fail with a clear message when nothing is left to work on.
     pub fn require_rows(&self, what: &str) -> Result<(), DataError> {
         if !self.rows.is_empty() {
             return Ok(());
         }
-        let hint = if self.filtered_out > 0 {
-            format!(
-                " ({} rows were outside --seasons/--league)",
-                self.filtered_out
-            )
+        let left_out = self.left_out();
+        let hint = if !left_out.is_empty() {
+            format!(" ({})", left_out.join("; "))
         } else if !self.rejected.is_empty() {
             format!(" (all {} rows were rejected)", self.rejected.len())
         } else {
@@ -267,17 +327,12 @@ pub(crate) fn parse_runs(text: &str) -> Result<f64, String> {
     Ok(v)
 }
 
-/// Read team-season files, or game logs when `games` is set, into one dataset.
-pub fn load(
-    paths: &[String],
-    game_logs: bool,
-    as_of: Option<gamelog::Date>,
-    opts: &LoadOptions,
-) -> Result<Dataset, DataError> {
+/// Read team-season files, or game logs when `game_logs` is set, into one dataset.
+pub fn load(paths: &[String], game_logs: bool, opts: &LoadOptions) -> Result<Dataset, DataError> {
     if game_logs {
-        gamelog::load(paths, as_of, opts)
+        gamelog::load(paths, opts)
     } else {
-        if as_of.is_some() {
+        if opts.as_of.is_some() {
             return Err(DataError::Usage(
                 "--as-of needs game logs (add --games)".to_string(),
             ));

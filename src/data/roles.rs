@@ -1,5 +1,7 @@
 //! Column roles: header normalisation, generic trade aliases and `--map` overrides.
 
+use std::collections::HashMap;
+
 use crate::error::DataError;
 
 /// Normalise a header: trim, lower-case, runs of non-alphanumerics become `_`, no `_` at either end.
@@ -68,8 +70,40 @@ impl std::str::FromStr for Mapping {
     }
 }
 
-/// Check that every `--map` names a known role.
+/// Check that every `--map` names a known role, and that no column is given two roles: two maps
+/// naming one header, or a map taking a header that another role claims by its aliases (unless that
+/// role is mapped elsewhere too).
 pub fn check_mappings(specs: &[RoleSpec], maps: &[Mapping]) -> Result<(), DataError> {
+    // The last --map of a role wins, as in `resolve`.
+    let effective: Vec<&Mapping> = maps
+        .iter()
+        .enumerate()
+        .filter(|(i, m)| !maps[i + 1..].iter().any(|later| later.role == m.role))
+        .map(|(_, m)| m)
+        .collect();
+    for (i, m) in effective.iter().enumerate() {
+        let header = normalise_header(&m.header);
+        if let Some(other) = effective[..i]
+            .iter()
+            .find(|o| normalise_header(&o.header) == header)
+        {
+            return Err(DataError::Usage(format!(
+                "--map {}={} and --map {}={} give one column two roles",
+                other.role, other.header, m.role, m.header
+            )));
+        }
+        let claimed_by = specs.iter().find(|s| {
+            s.name != m.role
+                && s.aliases.contains(&header.as_str())
+                && !effective.iter().any(|o| o.role == s.name)
+        });
+        if let Some(other) = claimed_by {
+            return Err(DataError::Usage(format!(
+                "--map {}={}: a column '{}' plays {} already; one column cannot play two roles (give {} its own column with --map {}=HEADER)",
+                m.role, m.header, m.header, other.name, other.name, other.name
+            )));
+        }
+    }
     for m in maps {
         if !specs.iter().any(|s| s.name == m.role) {
             let known: Vec<&str> = specs.iter().map(|s| s.name).collect();
@@ -85,6 +119,16 @@ pub fn check_mappings(specs: &[RoleSpec], maps: &[Mapping]) -> Result<(), DataEr
     Ok(())
 }
 
+/// Headers for a message: the first twenty, and how many more (a file can have 400,000 columns).
+fn listed(headers: &[String]) -> String {
+    const SHOWN: usize = 20;
+    let mut text = headers[..headers.len().min(SHOWN)].join(", ");
+    if headers.len() > SHOWN {
+        text.push_str(&format!(", … ({} more)", headers.len() - SHOWN));
+    }
+    text
+}
+
 /// Match a file's headers to roles. `--map` wins over aliases; two columns claiming one role is an error.
 pub fn resolve(
     file: &str,
@@ -93,51 +137,66 @@ pub fn resolve(
     maps: &[Mapping],
 ) -> Result<ColumnMap, DataError> {
     let normalised: Vec<String> = headers.iter().map(|h| normalise_header(h)).collect();
+    // A map from header to column keeps this linear in the number of columns.
+    let mut first_column: HashMap<&str, usize> = HashMap::with_capacity(normalised.len());
     for (i, h) in normalised.iter().enumerate() {
         if h.is_empty() {
             continue;
         }
-        if let Some(j) = normalised[..i].iter().position(|o| o == h) {
+        if let Some(&j) = first_column.get(h.as_str()) {
             return Err(DataError::DuplicateHeader {
                 file: file.to_string(),
-                header: headers[i].clone(),
+                header: crate::data::input::shown(&headers[i]),
                 first: j + 1,
                 second: i + 1,
             });
         }
+        first_column.insert(h, i);
     }
+    let mapped_headers: Vec<(String, &str)> = maps
+        .iter()
+        .map(|m| (normalise_header(&m.header), m.role.as_str()))
+        .collect();
     let mut index = vec![None; specs.len()];
     for (r, spec) in specs.iter().enumerate() {
         if let Some(m) = maps.iter().rev().find(|m| m.role == spec.name) {
             let wanted = normalise_header(&m.header);
-            let found = normalised.iter().position(|h| *h == wanted);
+            let found = first_column.get(wanted.as_str()).copied();
             match found {
                 Some(i) => index[r] = Some(i),
                 None => {
                     return Err(DataError::MappedHeaderMissing {
                         file: file.to_string(),
                         role: spec.name,
-                        header: m.header.clone(),
-                        headers: headers.join(", "),
+                        header: crate::data::input::shown(&m.header),
+                        headers: crate::data::input::shown(&listed(headers)),
                     });
                 }
             }
             continue;
         }
         let mut hit: Option<usize> = None;
-        for (i, h) in normalised.iter().enumerate() {
-            let mapped_elsewhere = maps
+        // Through the aliases (a handful each), not through every column.
+        let mut candidates: Vec<usize> = spec
+            .aliases
+            .iter()
+            .filter_map(|a| first_column.get(a).copied())
+            .collect();
+        candidates.sort_unstable();
+        for i in candidates {
+            let h = &normalised[i];
+            let mapped_elsewhere = mapped_headers
                 .iter()
-                .any(|m| m.role != spec.name && normalise_header(&m.header) == *h);
-            if mapped_elsewhere || !spec.aliases.contains(&h.as_str()) {
+                .any(|(header, role)| *role != spec.name && header == h);
+            if mapped_elsewhere {
                 continue;
             }
             if let Some(prev) = hit {
                 return Err(DataError::AmbiguousRole {
                     file: file.to_string(),
                     role: spec.name,
-                    first: headers[prev].clone(),
-                    second: headers[i].clone(),
+                    first: crate::data::input::shown(&headers[prev]),
+                    second: crate::data::input::shown(&headers[i]),
                 });
             }
             hit = Some(i);
@@ -178,5 +237,33 @@ mod tests {
         assert_eq!(m.role, "runs_scored");
         assert_eq!(m.header, "R");
         assert!("nothing".parse::<Mapping>().is_err());
+    }
+
+    #[test]
+    fn wide_headers_are_matched_in_one_pass_and_listed_briefly() {
+        // 200,000 columns: a quadratic duplicate check would compare 2·10^10 pairs.
+        let mut headers: Vec<String> = (0..200_000).map(|i| format!("c{i}")).collect();
+        headers.push("C7".to_string());
+        let specs = [RoleSpec {
+            name: "team",
+            aliases: &["team"],
+            required: true,
+        }];
+        match resolve("wide.csv", &headers, &specs, &[]) {
+            Err(DataError::DuplicateHeader { first, second, .. }) => {
+                assert_eq!((first, second), (8, 200_001));
+            }
+            other => panic!("expected a duplicate header, got {other:?}"),
+        }
+        headers.pop();
+        let maps = ["team=nowhere".parse().unwrap()];
+        let e = resolve("wide.csv", &headers, &specs, &maps)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.ends_with("c19, … (199980 more))"),
+            "{}",
+            &e[e.len() - 60..]
+        );
     }
 }

@@ -279,7 +279,7 @@ pub(crate) mod testdata {
             seasons: seasons.map(|s| s.parse().unwrap()),
             ..Default::default()
         };
-        let ds = crate::data::load(&[path.to_string()], false, None, &opts).unwrap();
+        let ds = crate::data::load(&[path.to_string()], false, &opts).unwrap();
         let t = Table::new(&ds.rows, TiePolicy::Half, weighting);
         (t, ds.rows)
     }

@@ -55,7 +55,7 @@ pub fn databank(seasons: Option<&str>) -> Dataset {
         seasons: seasons.map(|s| s.parse::<SeasonRange>().unwrap()),
         ..LoadOptions::default()
     };
-    data::load(&[databank_path()], false, None, &opts).unwrap()
+    data::load(&[databank_path()], false, &opts).unwrap()
 }
 
 pub fn table(ds: &Dataset, weighting: Weighting) -> Table {

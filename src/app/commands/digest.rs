@@ -37,10 +37,10 @@ pub struct Args {
     #[arg(long, value_name = "FILE")]
     pub profile: String,
     /// Count the games played on or before this date (ISO 8601).
-    #[arg(long, value_name = "DATE")]
+    #[arg(long, value_name = "DATE", value_parser = runcal::data::gamelog::parse_as_of)]
     pub as_of: Date,
     /// Compare with the games played on or before this date (default: a week before --as-of).
-    #[arg(long, value_name = "DATE")]
+    #[arg(long, value_name = "DATE", value_parser = runcal::data::gamelog::parse_as_of)]
     pub compare_to: Option<Date>,
     /// Use column HEADER for ROLE (repeatable), e.g. --map home_score=HS.
     #[arg(long = "map", value_name = "ROLE=HEADER")]
@@ -119,7 +119,7 @@ fn require_regular_files(files: &[String]) -> Result<(), Error> {
 fn compare_date(args: &Args) -> Result<Date, Error> {
     let compare_to = args
         .compare_to
-        .unwrap_or_else(|| args.as_of.days_earlier(digest::WEEK));
+        .unwrap_or_else(|| runcal::data::gamelog::days_earlier(args.as_of, digest::WEEK));
     if compare_to >= args.as_of {
         return Err(Error::Usage(format!(
             "--compare-to {compare_to} must be earlier than --as-of {}",

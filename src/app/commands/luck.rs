@@ -30,7 +30,7 @@ pub struct Args {
     #[arg(long, value_name = "FILE")]
     pub profile: Option<String>,
     /// Use only games played on or before this date (game logs, ISO 8601).
-    #[arg(long, value_name = "DATE")]
+    #[arg(long, value_name = "DATE", value_parser = runcal::data::gamelog::parse_as_of)]
     pub as_of: Option<Date>,
     /// Season length for the projection (default: the profile's; at most 1000000).
     #[arg(long, value_name = "N", value_parser = values::count_u64::<{ runcal::profile::MAX_SEASON_GAMES }>)]

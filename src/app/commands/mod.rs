@@ -41,7 +41,11 @@ pub fn load_any(
     as_of: Option<Date>,
     diag: &Diagnostics,
 ) -> Result<(Dataset, Table), Error> {
-    let mut ds = data::load(&input.files, input.games, as_of, &input.load_options())?;
+    let opts = data::LoadOptions {
+        as_of,
+        ..input.load_options()
+    };
+    let mut ds = data::load(&input.files, input.games, &opts)?;
     data::table::decided_rows(&mut ds, input.tie_policy(), input.skip_invalid)?;
     diag.dataset(&ds);
     let table = Table::new(&ds.rows, input.tie_policy(), input.weighting());
