@@ -8,6 +8,7 @@
 pub mod balance;
 pub mod data;
 pub mod digest;
+pub mod eras;
 pub mod error;
 pub mod fit;
 pub mod gate;
