@@ -28,6 +28,7 @@ pub enum Command {
     Check(commands::check::Args),
     Digest(commands::digest::Args),
     Simulate(commands::simulate::Args),
+    Eras(commands::eras::Args),
     /// Print a shell completion script to stdout.
     Completions {
         /// The shell to complete for.

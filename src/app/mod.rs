@@ -20,6 +20,7 @@ pub fn run(cli: cli::Cli) -> Result<u8> {
         Command::Check(a) => commands::check::run(&a),
         Command::Digest(a) => commands::digest::run(&a),
         Command::Simulate(a) => commands::simulate::run(&a),
+        Command::Eras(a) => commands::eras::run(&a),
         Command::Completions { shell } => {
             let mut cmd = <cli::Cli as clap::CommandFactory>::command();
             let mut out = Vec::new();

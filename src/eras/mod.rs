@@ -22,6 +22,13 @@ pub use span::Recommendation;
 /// PythagenPat's published z (from memory; the value the trade quotes for major-league baseball).
 pub const PUBLISHED_Z: f64 = 0.287;
 
+/// The caution an era report carries.
+pub const CAUTION: &str = "Descriptive statistics, not wagering or financial advice. Bands are 95% \
+intervals; neighbouring windows share seasons, so their points are not independent.";
+
+/// The standard normal's 97.5% quantile.
+const Z95: f64 = 1.959_963_984_540_054;
+
 /// The most bootstrap resamples a window may ask for: beyond this an interval's percentiles no longer
 /// move, and 150 windows × 100,000 resamples is already minutes of work.
 pub const MAX_RESAMPLES: usize = 100_000;
@@ -139,6 +146,8 @@ pub struct WindowFit {
     pub gap_history_se: f64,
     pub gap_published: f64,
     pub gap_published_se: f64,
+    /// exponent ± 1.96 standard errors (normal approximation, 95%).
+    pub normal_interval: (f64, f64),
     /// Bootstrap percentile interval and the seed its resamples used.
     pub interval: Option<(f64, f64)>,
     pub bootstrap_seed: Option<u64>,
@@ -334,6 +343,7 @@ fn window_fit(
         gap_history_se: var_gap.max(0.0).sqrt(),
         gap_published: x - implied_published,
         gap_published_se: se.corrected[0],
+        normal_interval: (x - Z95 * se.corrected[0], x + Z95 * se.corrected[0]),
         interval,
         bootstrap_seed,
     }))

@@ -4,6 +4,7 @@
 pub mod csv;
 pub mod document;
 pub mod grid;
+pub mod eras;
 pub mod json;
 pub mod luck;
 pub mod svg;

@@ -11,7 +11,7 @@ fn draw_err(msg: String) -> Error {
     Error::Serialize(format!("chart: {msg}"))
 }
 
-fn bounds(values: impl Iterator<Item = f64>) -> (f64, f64) {
+pub(crate) fn bounds(values: impl Iterator<Item = f64>) -> (f64, f64) {
     let (lo, hi) = values
         .filter(|v| v.is_finite())
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {

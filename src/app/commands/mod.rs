@@ -3,6 +3,7 @@
 pub mod backtest;
 pub mod check;
 pub mod digest;
+pub mod eras;
 pub mod fit;
 pub mod luck;
 pub mod simulate;

@@ -1,0 +1,106 @@
+//! `runcal eras`: how the league's exponent drifts over its seasons, and how much of it the run
+//! environment explains.
+
+use crate::app::cli::{ChangeByArg, InputArgs, OutputArgs, ResampleArg, WindowsArg};
+use runcal::eras::{self, BootstrapSpec};
+use runcal::error::Error;
+use runcal::report::eras::{EraReport, svg};
+
+/// Follow the exponent through the seasons: windows, a test for change, a calibration span
+///
+/// Fits the Pythagorean exponent (log-loss) on rolling or expanding windows of seasons, with its
+/// quasi-binomial standard error, the run environment's PythagenPat exponent (whole-history z and the
+/// published 0.287) and the gap between them; tests whether one exponent fits every season (a
+/// quasi-likelihood F test); and names the shortest recent span to calibrate on.
+///
+/// Example:
+///   runcal eras demo-data/meridian-league.csv --window 5
+///   runcal eras teams.csv --map runs_scored=R --window 10 --bootstrap 1000 --plot eras.svg
+#[derive(Debug, clap::Args)]
+#[command(verbatim_doc_comment)]
+pub struct Args {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Seasons per window (and per block with --change-by block).
+    #[arg(
+        long,
+        default_value_t = 10,
+        value_name = "N",
+        allow_negative_numbers = true
+    )]
+    pub window: i64,
+    /// Rolling windows of N seasons, or expanding windows from the first season.
+    #[arg(long, value_enum, default_value_t = WindowsArg::Rolling)]
+    pub windows: WindowsArg,
+    /// Windows (and change-test groups) with fewer team-seasons than this are listed but not fitted.
+    #[arg(long, default_value_t = 8, value_name = "N")]
+    pub min_group: usize,
+    /// The standard error a recommended calibration span must reach.
+    #[arg(long, default_value_t = 0.05, value_name = "SE")]
+    pub target_se: f64,
+    /// The change test's alternative: one exponent per season, or per block of N seasons.
+    #[arg(long, value_enum, default_value_t = ChangeByArg::Season)]
+    pub change_by: ChangeByArg,
+    /// Bootstrap resamples per window for percentile intervals (0: none; at most 100000).
+    #[arg(long, default_value_t = 0, value_name = "N")]
+    pub bootstrap: usize,
+    /// Base seed; each window draws from its own seed derived from it (shown in the JSON).
+    #[arg(long, default_value_t = 1, value_name = "S")]
+    pub seed: u64,
+    /// Resample team-seasons, or whole seasons.
+    #[arg(long, value_enum, default_value_t = ResampleArg::Team)]
+    pub resample: ResampleArg,
+    /// Coverage of the bootstrap intervals.
+    #[arg(long, default_value_t = 0.95, value_name = "L")]
+    pub ci_level: f64,
+    /// Draw the exponent over time with its band, the implied exponents and runs per game (SVG).
+    #[arg(long, value_name = "FILE.svg")]
+    pub plot: Option<String>,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+pub fn run(args: &Args) -> Result<u8, Error> {
+    let diag = super::diagnostics(&args.output);
+    let files = &args.input.files;
+    super::guard_outputs(&[args.output.output.as_ref(), args.plot.as_ref()], files)?;
+    let window = usize::try_from(args.window)
+        .ok()
+        .filter(|&w| w > 0)
+        .ok_or_else(|| {
+            Error::Usage(format!(
+                "--window must be at least 1 season, got {}",
+                args.window
+            ))
+        })?;
+    let opts = eras::Options {
+        window,
+        kind: args.windows.into(),
+        min_group: args.min_group,
+        target_se: args.target_se,
+        change_by: args.change_by.into(),
+        bootstrap: (args.bootstrap > 0).then_some(BootstrapSpec {
+            resamples: args.bootstrap,
+            seed: args.seed,
+            resample: args.resample.into(),
+            level: args.ci_level,
+        }),
+    };
+    // Refuse impossible options before reading a large file.
+    opts.validate(usize::MAX)
+        .map_err(|e| Error::Usage(e.to_string()))?;
+    let (ds, table) = super::load(&args.input, None, &diag)?;
+    let analysis = eras::analyse(&table, &ds.rows, &opts)?;
+    let report = EraReport {
+        rows_used: ds.rows.len(),
+        rows_rejected: ds.rejected.len(),
+        from_games: args.input.games,
+        analysis,
+    };
+    if let Some(path) = &args.plot {
+        svg::write(path, &report)?;
+        diag.note(&format!("wrote {path}"));
+    }
+    super::emit(&report, &args.output, files)?;
+    Ok(0)
+}

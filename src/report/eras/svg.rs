@@ -1,0 +1,169 @@
+//! The era chart: the window exponent with its 95% band and PythagenPat's implied exponents (top), the
+//! windows' runs per game (bottom). Drawing only; every point arrives computed.
+
+use plotters::prelude::*;
+
+use super::{EraReport, span};
+use crate::eras;
+use crate::error::Error;
+use crate::report::svg::{bounds, save};
+
+const BAND: RGBColor = RGBColor(158, 202, 225);
+const EXPONENT: RGBColor = RGBColor(8, 81, 156);
+const IMPLIED_HISTORY: RGBColor = RGBColor(217, 95, 2);
+const IMPLIED_PUBLISHED: RGBColor = RGBColor(117, 112, 179);
+const RUNS: RGBColor = RGBColor(64, 64, 64);
+
+type Area<'a> = DrawingArea<SVGBackend<'a>, plotters::coord::Shift>;
+
+fn text_err<E: std::fmt::Display>(e: E) -> String {
+    e.to_string()
+}
+
+/// Write the chart to `path` (atomically).
+pub fn write(path: &str, r: &EraReport) -> Result<(), Error> {
+    let a = &r.analysis;
+    // Points sit at each window's last season: the value at Y describes the window ending in Y.
+    let fitted: Vec<(f64, &eras::WindowFit)> = a
+        .windows
+        .iter()
+        .filter_map(|w| w.fit.as_ref().map(|f| (f64::from(w.last), f)))
+        .collect();
+    let runs: Vec<(f64, f64)> = a
+        .windows
+        .iter()
+        .map(|w| (f64::from(w.last), w.runs_per_game))
+        .collect();
+    let band = |f: &eras::WindowFit| f.interval.unwrap_or(f.normal_interval);
+    let band_name = if a.ci_level.is_some() {
+        "bootstrap interval"
+    } else {
+        "±1.96 standard errors"
+    };
+    let title = format!(
+        "Pythagorean exponent, {} {}-season windows, {}",
+        a.kind.name(),
+        a.window,
+        span(a.history.first, a.history.last)
+    );
+    save(path, 1000, 760, |root: Area| {
+        let (head, rest) = root.split_vertically(44);
+        let (body, foot) = rest.split_vertically(760 - 44 - 46);
+        let (top, bottom) = body.split_vertically(430);
+        head.draw(&Text::new(
+            title.as_str(),
+            (20, 12),
+            ("sans-serif", 22).into_font(),
+        ))
+        .map_err(text_err)?;
+        let (x0, x1) = bounds(runs.iter().map(|p| p.0));
+        let (y0, y1) = bounds(fitted.iter().flat_map(|(_, f)| {
+            let (lo, hi) = band(f);
+            [lo, hi, f.implied_history, f.implied_published]
+        }));
+        // Headroom above the data for the legend, so that it covers no line.
+        let y1 = y1 + 0.45 * (y1 - y0);
+        let mut chart = ChartBuilder::on(&top)
+            .margin_left(20)
+            .margin_right(30)
+            .margin_top(10)
+            .x_label_area_size(30)
+            .y_label_area_size(70)
+            .build_cartesian_2d(x0..x1, y0..y1)
+            .map_err(text_err)?;
+        chart
+            .configure_mesh()
+            .x_label_formatter(&|v| format!("{v:.0}"))
+            .y_label_formatter(&|v| format!("{v:.2}"))
+            .y_desc("exponent")
+            .light_line_style(WHITE.mix(0.0))
+            .draw()
+            .map_err(text_err)?;
+        let mut outline: Vec<(f64, f64)> = fitted.iter().map(|(x, f)| (*x, band(f).1)).collect();
+        outline.extend(fitted.iter().rev().map(|(x, f)| (*x, band(f).0)));
+        chart
+            .draw_series(std::iter::once(Polygon::new(
+                outline,
+                BAND.mix(0.6).filled(),
+            )))
+            .map_err(text_err)?
+            .label(format!("window exponent, 95% band ({band_name})"))
+            .legend(|(x, y)| Rectangle::new([(x, y - 5), (x + 20, y + 5)], BAND.filled()));
+        chart
+            .draw_series(LineSeries::new(
+                fitted.iter().map(|(x, f)| (*x, f.exponent)),
+                EXPONENT.stroke_width(2),
+            ))
+            .map_err(text_err)?
+            .label("window exponent (log-loss fit)")
+            .legend(|(x, y)| PathElement::new([(x, y), (x + 20, y)], EXPONENT.stroke_width(2)));
+        for (colour, label, pick) in [
+            (
+                IMPLIED_HISTORY,
+                format!(
+                    "implied by PythagenPat, z {:.3} (whole history)",
+                    a.history.z
+                ),
+                (|f: &eras::WindowFit| f.implied_history) as fn(&eras::WindowFit) -> f64,
+            ),
+            (
+                IMPLIED_PUBLISHED,
+                format!(
+                    "implied by PythagenPat, z {} (published)",
+                    eras::PUBLISHED_Z
+                ),
+                |f: &eras::WindowFit| f.implied_published,
+            ),
+        ] {
+            chart
+                .draw_series(DashedLineSeries::new(
+                    fitted.iter().map(|(x, f)| (*x, pick(f))),
+                    8,
+                    5,
+                    colour.stroke_width(2),
+                ))
+                .map_err(text_err)?
+                .label(label)
+                .legend(move |(x, y)| {
+                    PathElement::new([(x, y), (x + 20, y)], colour.stroke_width(2))
+                });
+        }
+        chart
+            .configure_series_labels()
+            .position(SeriesLabelPosition::UpperLeft)
+            .border_style(BLACK.mix(0.4))
+            .background_style(WHITE.mix(0.9))
+            .label_font(("sans-serif", 14))
+            .draw()
+            .map_err(text_err)?;
+
+        let (r0, r1) = bounds(runs.iter().map(|p| p.1));
+        let mut lower = ChartBuilder::on(&bottom)
+            .margin_left(20)
+            .margin_right(30)
+            .margin_top(10)
+            .x_label_area_size(40)
+            .y_label_area_size(70)
+            .build_cartesian_2d(x0..x1, r0..r1)
+            .map_err(text_err)?;
+        lower
+            .configure_mesh()
+            .x_label_formatter(&|v| format!("{v:.0}"))
+            .y_label_formatter(&|v| format!("{v:.2}"))
+            .x_desc("last season of the window")
+            .y_desc("runs per game (both teams)")
+            .light_line_style(WHITE.mix(0.0))
+            .draw()
+            .map_err(text_err)?;
+        lower
+            .draw_series(LineSeries::new(runs.iter().copied(), RUNS.stroke_width(2)))
+            .map_err(text_err)?;
+        foot.draw(&Text::new(
+            eras::CAUTION,
+            (20, 14),
+            ("sans-serif", 13).into_font().color(&BLACK.mix(0.7)),
+        ))
+        .map_err(text_err)?;
+        Ok(())
+    })
+}
