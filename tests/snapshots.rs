@@ -219,3 +219,21 @@ fn committed_demo_profile_is_current() {
     let committed = std::fs::read(repo().join("demo-data/meridian-profile.json")).unwrap();
     assert!(demo_profile() == committed, "rerun demo-data/make-demo.sh");
 }
+
+#[test]
+fn eras_json() {
+    check(
+        "eras.json",
+        &[
+            "eras",
+            "demo-data/meridian-league.csv",
+            "--window",
+            "10",
+            "--bootstrap",
+            "100",
+            "--format",
+            "json",
+            "-q",
+        ],
+    );
+}

@@ -23,8 +23,8 @@ pub use span::Recommendation;
 pub const PUBLISHED_Z: f64 = 0.287;
 
 /// The caution an era report carries.
-pub const CAUTION: &str = "Descriptive statistics, not wagering or financial advice. Bands are 95% \
-intervals; neighbouring windows share seasons, so their points are not independent.";
+pub const CAUTION: &str = "Descriptive statistics, not wagering or financial advice. Exponents are \
+estimates; neighbouring windows share seasons, so their points are not independent.";
 
 /// The standard normal's 97.5% quantile.
 const Z95: f64 = 1.959_963_984_540_054;
@@ -396,4 +396,70 @@ pub fn analyse(t: &Table, rows: &[TeamSeason], opts: &Options) -> Result<EraAnal
         change_skipped,
         recommendation,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rolling_and_expanding_spans_cover_the_seasons_present() {
+        let seasons = [2001, 2002, 2004, 2005];
+        assert_eq!(
+            spans(&seasons, 2, WindowKind::Rolling),
+            vec![(2001, 2002, 2), (2002, 2004, 2), (2004, 2005, 2)]
+        );
+        assert_eq!(
+            spans(&seasons, 3, WindowKind::Expanding),
+            vec![(2001, 2004, 3), (2001, 2005, 4)]
+        );
+        assert!(spans(&seasons, 5, WindowKind::Rolling).is_empty());
+        assert!(spans(&seasons, 0, WindowKind::Rolling).is_empty());
+    }
+
+    #[test]
+    fn window_seeds_depend_on_the_window_only() {
+        assert_eq!(window_seed(1, 1990, 1999), window_seed(1, 1990, 1999));
+        assert_ne!(window_seed(1, 1990, 1999), window_seed(1, 1991, 2000));
+        assert_ne!(window_seed(1, 1990, 1999), window_seed(2, 1990, 1999));
+        // SplitMix64's first output from state 0 (Vigna's reference implementation; value from memory).
+        assert_eq!(splitmix64(0), 0xE220_A839_7B1D_CDAF);
+    }
+
+    #[test]
+    fn options_refuse_what_no_analysis_can_honour() {
+        let ok = Options {
+            window: 10,
+            kind: WindowKind::Rolling,
+            min_group: 8,
+            target_se: 0.05,
+            change_by: ChangeBy::Season,
+            bootstrap: None,
+        };
+        assert!(ok.validate(150).is_ok());
+        assert!(Options { window: 0, ..ok }.validate(150).is_err());
+        assert!(ok.validate(9).is_err());
+        assert!(
+            Options {
+                target_se: -1.0,
+                ..ok
+            }
+            .validate(150)
+            .is_err()
+        );
+        let huge = BootstrapSpec {
+            resamples: MAX_RESAMPLES + 1,
+            seed: 1,
+            resample: bootstrap::Resample::Team,
+            level: 0.95,
+        };
+        assert!(
+            Options {
+                bootstrap: Some(huge),
+                ..ok
+            }
+            .validate(150)
+            .is_err()
+        );
+    }
 }

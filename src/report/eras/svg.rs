@@ -35,10 +35,9 @@ pub fn write(path: &str, r: &EraReport) -> Result<(), Error> {
         .map(|w| (f64::from(w.last), w.runs_per_game))
         .collect();
     let band = |f: &eras::WindowFit| f.interval.unwrap_or(f.normal_interval);
-    let band_name = if a.ci_level.is_some() {
-        "bootstrap interval"
-    } else {
-        "±1.96 standard errors"
+    let band_name = match a.ci_level {
+        Some(level) => format!("{:.0}% bootstrap interval", level * 100.0),
+        None => "95%: ±1.96 standard errors".to_string(),
     };
     let title = format!(
         "Pythagorean exponent, {} {}-season windows, {}",
@@ -62,13 +61,13 @@ pub fn write(path: &str, r: &EraReport) -> Result<(), Error> {
             [lo, hi, f.implied_history, f.implied_published]
         }));
         // Headroom above the data for the legend, so that it covers no line.
-        let y1 = y1 + 0.45 * (y1 - y0);
+        let y1 = y1 + 0.35 * (y1 - y0);
         let mut chart = ChartBuilder::on(&top)
             .margin_left(20)
             .margin_right(30)
             .margin_top(10)
-            .x_label_area_size(30)
-            .y_label_area_size(70)
+            .x_label_area_size(36)
+            .y_label_area_size(80)
             .build_cartesian_2d(x0..x1, y0..y1)
             .map_err(text_err)?;
         chart
@@ -77,6 +76,8 @@ pub fn write(path: &str, r: &EraReport) -> Result<(), Error> {
             .y_label_formatter(&|v| format!("{v:.2}"))
             .y_desc("exponent")
             .light_line_style(WHITE.mix(0.0))
+            .label_style(("sans-serif", 14))
+            .axis_desc_style(("sans-serif", 15))
             .draw()
             .map_err(text_err)?;
         let mut outline: Vec<(f64, f64)> = fitted.iter().map(|(x, f)| (*x, band(f).1)).collect();
@@ -87,7 +88,7 @@ pub fn write(path: &str, r: &EraReport) -> Result<(), Error> {
                 BAND.mix(0.6).filled(),
             )))
             .map_err(text_err)?
-            .label(format!("window exponent, 95% band ({band_name})"))
+            .label(format!("window exponent, band: {band_name}"))
             .legend(|(x, y)| Rectangle::new([(x, y - 5), (x + 20, y + 5)], BAND.filled()));
         chart
             .draw_series(LineSeries::new(
@@ -142,8 +143,8 @@ pub fn write(path: &str, r: &EraReport) -> Result<(), Error> {
             .margin_left(20)
             .margin_right(30)
             .margin_top(10)
-            .x_label_area_size(40)
-            .y_label_area_size(70)
+            .x_label_area_size(50)
+            .y_label_area_size(80)
             .build_cartesian_2d(x0..x1, r0..r1)
             .map_err(text_err)?;
         lower
@@ -153,6 +154,8 @@ pub fn write(path: &str, r: &EraReport) -> Result<(), Error> {
             .x_desc("last season of the window")
             .y_desc("runs per game (both teams)")
             .light_line_style(WHITE.mix(0.0))
+            .label_style(("sans-serif", 14))
+            .axis_desc_style(("sans-serif", 15))
             .draw()
             .map_err(text_err)?;
         lower
