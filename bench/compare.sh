@@ -5,6 +5,8 @@
 #   (a) fit all four models on the Databank full history (whole process)
 #   (b) a 10,000-resample bootstrap of the Pythagorean log-loss exponent on the full history
 #   (c) aggregate and fit a simulated 5,000,000-game log; also against a bare csv-crate scan
+#   (d) runcal eras: every rolling 10-season window of the Databank with 1,000 bootstrap resamples
+#       each (runcal only; the criterion bench `eras_databank` measures the computation alone)
 #
 # Not part of the test suite. From a fresh clone it builds runcal in release, creates a Python venv
 # in target/bench-venv with the versions pinned in bench/requirements.txt, installs GNU time if
@@ -116,6 +118,11 @@ C_SCAN=$(seconds c_scan "$REPS" "$SCAN" "$GAMES")
 note "(c) 5M-game log, pandas"
 read -r C_PY C_PY_KIB < <(timed_once c_python "$PY" bench/reference_impl.py games "$GAMES")
 
+note "(d) era windows, runcal x$REPS"
+D_ARGS=(eras "$TEAMS" "${MAPS[@]}" --window 10 --bootstrap 1000 --seed 1 --format json -q)
+D_RC_KIB=$(peak_kib d_runcal "$RUNCAL" "${D_ARGS[@]}")
+D_RC=$(seconds d_runcal "$REPS" "$RUNCAL" "${D_ARGS[@]}")
+
 note "load after: $(cut -d' ' -f1-3 /proc/loadavg)"
 
 # ---------------------------------------------------------------- report
@@ -126,6 +133,8 @@ load = lambda name: json.load(open(f"{out}/{name}.out"))
 a_rc, a_py = $A_RC, $A_PY
 b_rc, b_py = $B_RC, $B_PY
 c_rc, c_py, c_scan = $C_RC, $C_PY, $C_SCAN
+d_rc = $D_RC
+d_windows = len(load("d_runcal")["windows"])
 mib = lambda kib: kib / 1024
 
 # The same work: the answers must agree.
@@ -158,6 +167,8 @@ rows = [
     ("(c) same, peak memory (max RSS)",
      f"{mib($C_RC_KIB):.1f} MiB", f"{mib($C_PY_KIB):.0f} MiB", f"{$C_PY_KIB / $C_RC_KIB:.0f}x less",
      "runcal < 32 MiB", verdict($C_RC_KIB < 32 * 1024)),
+    (f"(d) eras: {d_windows} rolling 10-season windows x 1,000 resamples (whole process)",
+     f"{d_rc:.3f} s", "-", "-", "runcal < 1 s", verdict(d_rc < 1.0)),
 ]
 print("| workload | runcal | numpy/scipy/pandas | ratio | target | |")
 print("|---|---|---|---|---|---|")
@@ -165,7 +176,8 @@ for r in rows:
     print("| " + " | ".join(r) + " |")
 print()
 print(f"peak memory: (a) runcal {mib($A_RC_KIB):.1f} MiB, Python {mib($A_PY_KIB):.0f} MiB; "
-      f"(b) runcal {mib($B_RC_KIB):.1f} MiB, Python {mib($B_PY_KIB):.0f} MiB")
+      f"(b) runcal {mib($B_RC_KIB):.1f} MiB, Python {mib($B_PY_KIB):.0f} MiB; "
+      f"(d) runcal {mib($D_RC_KIB):.1f} MiB")
 print(f"agreement: (a) largest relative parameter difference {a_agree:.1e}; "
       f"(c) exponent {c_agree:.1e}, {c['rows_used']} team-seasons both")
 print(f"(b) 95% interval of the exponent: runcal {b['ci']['exponent'][0]:.4f}-{b['ci']['exponent'][1]:.4f}, "

@@ -1,5 +1,5 @@
 //! Criterion benchmarks of runcal's hot paths: loss evaluation per row, each model's fit, a
-//! bootstrap, a backtest and game-log aggregation. Data: the Baseball Databank team table in
+//! bootstrap, a backtest, game-log aggregation and the era windows. Data: the Baseball Databank team table in
 //! tests/data, and leagues simulated with `runcal::simulate`.
 //!
 //! `cargo bench` runs them all in a few minutes; `cargo bench -- bootstrap` runs one group.
@@ -13,6 +13,7 @@ use std::time::Duration;
 
 use criterion::{BatchSize, BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
 use runcal::data::{self, Dataset, LoadOptions, Table, TiePolicy, Weighting};
+use runcal::eras;
 use runcal::fit::backtest::{self, Candidate, Scheme};
 use runcal::fit::bootstrap::{self, Resample};
 use runcal::fit::{self, Loss, loss};
@@ -206,6 +207,32 @@ fn game_logs(c: &mut Criterion) {
     g.finish();
 }
 
+fn era_windows(c: &mut Criterion) {
+    // Every rolling 10-season window of the full Databank (141 windows over 150 seasons), each
+    // with 1,000 bootstrap resamples, plus the change test and the recommendation: `runcal eras`'s
+    // whole computation. Target: under 1 s on 2 cores.
+    let (ds, t) = databank();
+    let opts = eras::Options {
+        window: 10,
+        kind: eras::WindowKind::Rolling,
+        min_group: 8,
+        target_se: 0.05,
+        change_by: eras::ChangeBy::Season,
+        bootstrap: Some(eras::BootstrapSpec {
+            resamples: 1000,
+            seed: 1,
+            resample: Resample::Team,
+            level: 0.95,
+        }),
+    };
+    let mut g = c.benchmark_group("eras_databank");
+    g.sample_size(10);
+    g.bench_function("rolling_10_bootstrap_1000", |b| {
+        b.iter(|| eras::analyse(&t, &ds.rows, &opts).unwrap())
+    });
+    g.finish();
+}
+
 fn config() -> Criterion {
     Criterion::default()
         .sample_size(20)
@@ -216,6 +243,6 @@ fn config() -> Criterion {
 criterion_group! {
     name = benches;
     config = config();
-    targets = losses, fits, bootstraps, backtests, game_logs
+    targets = losses, fits, bootstraps, backtests, game_logs, era_windows
 }
 criterion_main!(benches);
