@@ -374,3 +374,48 @@ fn a_single_season_gets_one_window_and_a_recommendation() {
     // 30 teams cannot reach ±0.05 in one season: the rule says so rather than pretending.
     assert_eq!(v["recommendation"]["meets_target"], false);
 }
+
+#[test]
+fn databank_numbers_in_the_readme_are_what_the_command_prints() {
+    // README, "Has the league moved?": the command shown there and the numbers it quotes.
+    let report = eras(&["--seasons", "1900-2020", "--window", "10"]);
+    let fitted: Vec<&Value> = report["windows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|w| w["fitted"] == true)
+        .collect();
+    assert_eq!(fitted.len(), 112);
+    let by = |w: &&Value| f(&w["exponent"]);
+    let lo = fitted
+        .iter()
+        .min_by(|a, b| by(a).total_cmp(&by(b)))
+        .unwrap();
+    let hi = fitted
+        .iter()
+        .max_by(|a, b| by(a).total_cmp(&by(b)))
+        .unwrap();
+    assert_eq!(
+        (lo["first_season"].as_i64(), lo["last_season"].as_i64()),
+        (Some(1966), Some(1975))
+    );
+    assert_eq!(
+        (hi["first_season"].as_i64(), hi["last_season"].as_i64()),
+        (Some(1932), Some(1941))
+    );
+    close(f(&lo["exponent"]), 1.680, 5e-4, "lowest window");
+    close(f(&hi["exponent"]), 1.996, 5e-4, "highest window");
+    let full = eras(&["--window", "10"]);
+    let c = &full["change_test"];
+    assert_eq!(c["exponent_changed"], true);
+    close(f(&c["f_statistic"]), 1.65, 5e-3, "F");
+    close(f(&c["p_value"]), 2.4e-6, 5e-8, "p");
+    let chosen = &full["recommendation"]["chosen"];
+    assert_eq!(chosen["first_season"], 2015);
+    close(
+        f(&chosen["std_error"]),
+        0.049,
+        5e-4,
+        "recommended span's SE",
+    );
+}
