@@ -1,6 +1,8 @@
 //! `runcal eras`: window fits against `runcal fit --seasons A-B` and statsmodels, the change test
 //! against statsmodels and scipy, the reports, and hostile options.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 mod common;
 
 use common::{DATABANK_MAPS, close, databank_path, f, repo, runcal};

@@ -7,6 +7,8 @@
 //! Generalized Linear Models, 2nd ed., §12.6). With 400 leagues the binomial standard error of a 5%
 //! rate is 1.1 points, so 3–8% is about ±2 standard errors.
 
+#![allow(clippy::unwrap_used, clippy::expect_used)] // test code: a failed unwrap is a failed test
+
 use runcal::data::{Table, TeamSeason, TiePolicy, Weighting};
 use runcal::eras::{self, ChangeBy, ChangeTest, WindowKind};
 use runcal::model::{Model, ModelKind};

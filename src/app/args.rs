@@ -4,6 +4,7 @@
 use clap::{Args, ValueEnum};
 
 use runcal::data::{self, Mapping, SeasonRange, TiePolicy, Weighting};
+use runcal::eras::{ChangeBy, WindowKind};
 use runcal::fit::{Loss, backtest::Scheme, bootstrap::Resample};
 use runcal::report::Format;
 
@@ -124,6 +125,25 @@ value_mirror!(
         LeaveOneSeasonOut,
         /// Fit on all seasons before Y, score Y ("calibrate before the season").
         Rolling,
+    }
+);
+
+value_mirror!(
+    /// How era windows move over the seasons.
+    WindowsArg => WindowKind {
+        /// N consecutive seasons, moved on one season at a time.
+        Rolling,
+        /// From the first season, one season longer each step.
+        Expanding,
+    }
+);
+value_mirror!(
+    /// What the change test fits one exponent to.
+    ChangeByArg => ChangeBy {
+        /// One exponent per season.
+        Season,
+        /// One per block of --window consecutive seasons.
+        Block,
     }
 );
 

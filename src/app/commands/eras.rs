@@ -1,10 +1,10 @@
 //! `runcal eras`: how the league's exponent drifts over its seasons, and how much of it the run
 //! environment explains.
 
-use crate::app::cli::{ChangeByArg, InputArgs, OutputArgs, ResampleArg, WindowsArg};
+use crate::app::args::{self, ChangeByArg, InputArgs, OutputArgs, ResampleArg, WindowsArg};
 use runcal::eras::{self, BootstrapSpec};
 use runcal::error::Error;
-use runcal::report::eras::{EraReport, svg};
+use runcal::report::eras::EraReport;
 
 /// Follow the exponent through the seasons: windows, a test for change, a calibration span
 ///
@@ -36,7 +36,7 @@ pub struct Args {
     #[arg(long, default_value_t = 8, value_name = "N")]
     pub min_group: usize,
     /// The standard error a recommended calibration span must reach.
-    #[arg(long, default_value_t = 0.05, value_name = "SE")]
+    #[arg(long, default_value_t = 0.05, value_name = "SE", value_parser = args::positive)]
     pub target_se: f64,
     /// The change test's alternative: one exponent per season, or per block of N seasons.
     #[arg(long, value_enum, default_value_t = ChangeByArg::Season)]
@@ -51,7 +51,7 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = ResampleArg::Team)]
     pub resample: ResampleArg,
     /// Coverage of the bootstrap intervals.
-    #[arg(long, default_value_t = 0.95, value_name = "L")]
+    #[arg(long, default_value_t = 0.95, value_name = "L", value_parser = args::level)]
     pub ci_level: f64,
     /// Draw the exponent over time with its band, the implied exponents and runs per game (SVG).
     #[arg(long, value_name = "FILE.svg")]
@@ -97,10 +97,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         from_games: args.input.games,
         analysis,
     };
-    if let Some(path) = &args.plot {
-        svg::write(path, &report)?;
-        diag.note(&format!("wrote {path}"));
-    }
+    super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     super::emit(&report, &args.output, files)?;
     Ok(0)
 }

@@ -24,11 +24,14 @@ impl Report for EraReport {
     fn table(&self) -> String {
         table::render(self)
     }
-    fn json(&self) -> serde_json::Value {
-        json::render(self)
+    fn json(&self) -> Result<Vec<u8>, Error> {
+        crate::report::json::to_bytes(&json::render(self))
     }
     fn csv(&self) -> Result<Vec<u8>, Error> {
         csv::render(self)
+    }
+    fn svg(&self) -> Option<Result<Vec<u8>, Error>> {
+        Some(svg::chart(self))
     }
 }
 

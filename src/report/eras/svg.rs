@@ -6,7 +6,7 @@ use plotters::prelude::*;
 use super::{EraReport, span};
 use crate::eras;
 use crate::error::Error;
-use crate::report::svg::{bounds, save};
+use crate::report::svg::{bounds, render};
 
 const BAND: RGBColor = RGBColor(158, 202, 225);
 const EXPONENT: RGBColor = RGBColor(8, 81, 156);
@@ -20,8 +20,8 @@ fn text_err<E: std::fmt::Display>(e: E) -> String {
     e.to_string()
 }
 
-/// Write the chart to `path` (atomically).
-pub fn write(path: &str, r: &EraReport) -> Result<(), Error> {
+/// The chart as an SVG document.
+pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
     let a = &r.analysis;
     // Points sit at each window's last season: the value at Y describes the window ending in Y.
     let fitted: Vec<(f64, &eras::WindowFit)> = a
@@ -45,7 +45,7 @@ pub fn write(path: &str, r: &EraReport) -> Result<(), Error> {
         a.window,
         span(a.history.first, a.history.last)
     );
-    save(path, 1000, 760, |root: Area| {
+    render(1000, 760, |root: Area| {
         let (head, rest) = root.split_vertically(44);
         let (body, foot) = rest.split_vertically(760 - 44 - 46);
         let (top, bottom) = body.split_vertically(430);
