@@ -218,11 +218,12 @@ fn era_windows(c: &mut Criterion) {
         min_group: 8,
         target_se: 0.05,
         change_by: eras::ChangeBy::Season,
-        bootstrap: Some(eras::BootstrapSpec {
+        bootstrap: Some(bootstrap::Options {
             resamples: 1000,
             seed: 1,
             resample: Resample::Team,
             level: 0.95,
+            progress: None,
         }),
     };
     let mut g = c.benchmark_group("eras_databank");

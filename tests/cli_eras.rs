@@ -15,10 +15,16 @@ fn maps() -> Vec<String> {
         .collect()
 }
 
+/// Run with the Databank's `--map`s; the JSON printed.
 fn json_of(args: &[&str]) -> Value {
+    let mut all: Vec<String> = args.iter().map(|a| (*a).to_string()).collect();
+    all.extend(maps());
+    json_stdout(&all)
+}
+
+fn json_stdout(args: &[String]) -> Value {
     let out = runcal()
         .args(args)
-        .args(maps())
         .args(["--format", "json", "-q"])
         .assert()
         .success()
@@ -260,23 +266,14 @@ fn csv_has_one_safe_row_per_window() {
 
 #[test]
 fn game_logs_work_like_season_tables() {
-    let out = runcal()
-        .args([
-            "eras",
-            "demo-data/meridian-2026-games.csv",
-            "--games",
-            "--window",
-            "1",
-            "--format",
-            "json",
-            "-q",
-        ])
-        .assert()
-        .success()
-        .get_output()
-        .stdout
-        .clone();
-    let v: Value = serde_json::from_slice(&out).unwrap();
+    let args = [
+        "eras",
+        "demo-data/meridian-2026-games.csv",
+        "--games",
+        "--window",
+        "1",
+    ];
+    let v = json_stdout(&args.map(String::from));
     assert_eq!(v["schema"], "runcal.eras/1");
     assert_eq!(v["input"], "games");
     assert_eq!(v["windows"].as_array().unwrap().len(), 1);
@@ -325,37 +322,32 @@ fn refused(args: &[&str], says: &str) {
 #[test]
 fn hostile_options_are_refused_with_exit_2() {
     let demo = "demo-data/meridian-league.csv";
-    refused(
-        &["eras", demo, "--window", "0"],
-        "--window must be at least 1",
-    );
-    refused(
-        &["eras", demo, "--window", "-3"],
-        "--window must be at least 1",
-    );
-    refused(
-        &["eras", demo, "--window", "26"],
-        "longer than the 25 season(s)",
-    );
-    refused(
-        &["eras", demo, "--seasons", "2019", "--window", "2"],
-        "longer than the 1 season(s)",
-    );
-    refused(
-        &["eras", demo, "--bootstrap", "100001"],
-        "--bootstrap takes 2 to 100000",
-    );
-    refused(
-        &["eras", demo, "--bootstrap", "99999999999999999999"],
-        "--bootstrap",
-    );
-    refused(&["eras", demo, "--target-se", "0"], "--target-se");
-    refused(&["eras", demo, "--target-se", "NaN"], "--target-se");
-    refused(
-        &["eras", demo, "--bootstrap", "10", "--ci-level", "1.5"],
-        "--ci-level",
-    );
-    refused(&["eras", demo, "--plot", demo], "input");
+    let cases: [(&[&str], &str); 12] = [
+        (&["--window", "0"], "--window must be at least 1"),
+        (&["--window", "-3"], "--window must be at least 1"),
+        (&["--window", "26"], "longer than the 25 season(s)"),
+        (
+            &["--seasons", "2019", "--window", "2"],
+            "longer than the 1 season(s)",
+        ),
+        (&["--bootstrap", "100001"], "--bootstrap takes 2 to 100000"),
+        (&["--bootstrap", "99999999999999999999"], "--bootstrap"),
+        (&["--target-se", "0"], "--target-se"),
+        (&["--target-se", "NaN"], "--target-se"),
+        (&["--bootstrap", "10", "--ci-level", "1.5"], "--ci-level"),
+        (&["--plot", demo], "input"),
+        (
+            &["--windows", "expanding", "--window", "40"],
+            "longer than the 25",
+        ),
+        (
+            &["--min-group", "1", "--window", "1", "--league", "<script>"],
+            "no rows",
+        ),
+    ];
+    for (extra, says) in cases {
+        refused(&[&["eras", demo], extra].concat(), says);
+    }
     refused(&["eras", "/dev/null"], "/dev/null");
     refused(&["eras", "tests"], "tests");
 }

@@ -3,9 +3,12 @@
 
 use clap::{Args, ValueEnum};
 
+use crate::app::values;
+
 use runcal::data::{self, Mapping, SeasonRange, TiePolicy, Weighting};
 use runcal::eras::{ChangeBy, WindowKind};
-use runcal::fit::{Loss, backtest::Scheme, bootstrap::Resample};
+use runcal::fit::bootstrap::{self, Resample};
+use runcal::fit::{Loss, backtest::Scheme};
 use runcal::report::Format;
 
 /// Where the rows come from and which of them to use.
@@ -146,6 +149,39 @@ value_mirror!(
         Block,
     }
 );
+
+/// Bootstrap percentile intervals (`fit`, and every window of `eras`).
+#[derive(Debug, Clone, Args)]
+pub struct BootstrapArgs {
+    /// Bootstrap resamples for percentile intervals (0: none; at most 100000).
+    #[arg(long, default_value_t = 0, value_name = "N", value_parser = values::count::<{ values::MAX_BOOTSTRAP }>)]
+    pub bootstrap: usize,
+    /// Seed of the bootstrap's random streams.
+    #[arg(long, default_value_t = 1, value_name = "S")]
+    pub seed: u64,
+    /// Resample team-seasons, or whole seasons (keeps within-season dependence).
+    #[arg(long, value_enum, default_value_t = ResampleArg::Team)]
+    pub resample: ResampleArg,
+    /// Coverage of the bootstrap intervals.
+    #[arg(long, default_value_t = 0.95, value_name = "L", value_parser = level, allow_negative_numbers = true)]
+    pub ci_level: f64,
+}
+
+impl BootstrapArgs {
+    /// The bootstrap's options, or `None` with `--bootstrap 0`.
+    pub fn options<'a>(
+        &self,
+        progress: Option<bootstrap::Progress<'a>>,
+    ) -> Option<bootstrap::Options<'a>> {
+        (self.bootstrap > 0).then(|| bootstrap::Options {
+            resamples: self.bootstrap,
+            seed: self.seed,
+            resample: self.resample.into(),
+            level: self.ci_level,
+            progress,
+        })
+    }
+}
 
 /// Where and how results are written.
 #[derive(Debug, Clone, Args)]

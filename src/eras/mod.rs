@@ -52,16 +52,6 @@ impl WindowKind {
     }
 }
 
-/// Bootstrap intervals for each window.
-#[derive(Debug, Clone, Copy)]
-pub struct BootstrapSpec {
-    pub resamples: usize,
-    /// The base seed; each window draws from its own seed (`window_seed`).
-    pub seed: u64,
-    pub resample: bootstrap::Resample,
-    pub level: f64,
-}
-
 /// What to compute.
 #[derive(Debug, Clone, Copy)]
 pub struct Options {
@@ -73,7 +63,8 @@ pub struct Options {
     /// The standard error a recommended calibration span must reach.
     pub target_se: f64,
     pub change_by: ChangeBy,
-    pub bootstrap: Option<BootstrapSpec>,
+    /// Bootstrap intervals for each window; each window replaces the seed with `window_seed`.
+    pub bootstrap: Option<bootstrap::Options<'static>>,
 }
 
 impl Options {
@@ -300,7 +291,7 @@ fn window_fit(
     idx: &[usize],
     span: (i32, i32),
     h: &History,
-    boot: Option<&BootstrapSpec>,
+    boot: Option<&bootstrap::Options<'static>>,
 ) -> Result<Option<WindowFit>, FitError> {
     let Some((f, sub)) = exponent_fit(t, idx) else {
         return Ok(None);
@@ -320,11 +311,9 @@ fn window_fit(
             let seed = window_seed(b.seed, span.0, span.1);
             let window_rows: Vec<TeamSeason> = idx.iter().map(|&i| rows[i].clone()).collect();
             let opts = bootstrap::Options {
-                resamples: b.resamples,
                 seed,
-                resample: b.resample,
-                level: b.level,
-                progress: false,
+                progress: None,
+                ..*b
             };
             let iv = bootstrap::run(&sub, &window_rows, &f, &opts)?;
             (Some(iv.params[0]), Some(seed))
@@ -447,11 +436,12 @@ mod tests {
             .validate(150)
             .is_err()
         );
-        let huge = BootstrapSpec {
+        let huge = bootstrap::Options {
             resamples: MAX_RESAMPLES + 1,
             seed: 1,
             resample: bootstrap::Resample::Team,
             level: 0.95,
+            progress: None,
         };
         assert!(
             Options {

@@ -3,8 +3,8 @@
 
 pub mod csv;
 pub mod document;
-pub mod grid;
 pub mod eras;
+pub mod grid;
 pub mod json;
 pub mod luck;
 pub mod svg;

@@ -1,8 +1,8 @@
 //! `runcal eras`: how the league's exponent drifts over its seasons, and how much of it the run
 //! environment explains.
 
-use crate::app::args::{self, ChangeByArg, InputArgs, OutputArgs, ResampleArg, WindowsArg};
-use runcal::eras::{self, BootstrapSpec};
+use crate::app::args::{self, BootstrapArgs, ChangeByArg, InputArgs, OutputArgs, WindowsArg};
+use runcal::eras;
 use runcal::error::Error;
 use runcal::report::eras::EraReport;
 
@@ -41,18 +41,10 @@ pub struct Args {
     /// The change test's alternative: one exponent per season, or per block of N seasons.
     #[arg(long, value_enum, default_value_t = ChangeByArg::Season)]
     pub change_by: ChangeByArg,
-    /// Bootstrap resamples per window for percentile intervals (0: none; at most 100000).
-    #[arg(long, default_value_t = 0, value_name = "N")]
-    pub bootstrap: usize,
-    /// Base seed; each window draws from its own seed derived from it (shown in the JSON).
-    #[arg(long, default_value_t = 1, value_name = "S")]
-    pub seed: u64,
-    /// Resample team-seasons, or whole seasons.
-    #[arg(long, value_enum, default_value_t = ResampleArg::Team)]
-    pub resample: ResampleArg,
-    /// Coverage of the bootstrap intervals.
-    #[arg(long, default_value_t = 0.95, value_name = "L", value_parser = args::level)]
-    pub ci_level: f64,
+    /// Bootstrap intervals per window (--bootstrap at most 100000); each window draws from its own
+    /// seed derived from --seed (`bootstrap_seed` in the JSON).
+    #[command(flatten)]
+    pub boot: BootstrapArgs,
     /// Draw the exponent over time with its band, the implied exponents and runs per game (SVG).
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<String>,
@@ -63,7 +55,13 @@ pub struct Args {
 pub fn run(args: &Args) -> Result<u8, Error> {
     let diag = super::diagnostics(&args.output);
     let files = &args.input.files;
-    super::guard_outputs(&[args.output.output.as_ref(), args.plot.as_ref()], files)?;
+    super::guard_outputs(
+        &[
+            ("--output", args.output.output.as_ref()),
+            ("--plot", args.plot.as_ref()),
+        ],
+        files,
+    )?;
     let window = usize::try_from(args.window)
         .ok()
         .filter(|&w| w > 0)
@@ -79,12 +77,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         min_group: args.min_group,
         target_se: args.target_se,
         change_by: args.change_by.into(),
-        bootstrap: (args.bootstrap > 0).then_some(BootstrapSpec {
-            resamples: args.bootstrap,
-            seed: args.seed,
-            resample: args.resample.into(),
-            level: args.ci_level,
-        }),
+        bootstrap: args.boot.options(None),
     };
     // Refuse impossible options before reading a large file.
     opts.validate(usize::MAX)

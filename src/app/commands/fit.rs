@@ -1,10 +1,10 @@
 //! `runcal fit`: fit a league's exponent (or every model) and compare with published references.
 
-use crate::app::args::{FormatArg, InputArgs, LossArg, OutputArgs, ResampleArg, level, positive};
+use crate::app::args::{BootstrapArgs, FormatArg, InputArgs, LossArg, OutputArgs, positive};
 use crate::app::values;
 use runcal::error::Error;
+use runcal::fit::GroupBy;
 use runcal::fit::calibrate::{Plan, calibrate};
-use runcal::fit::{GroupBy, bootstrap};
 use runcal::model::Model;
 use runcal::profile::Profile;
 use runcal::report::FitReport;
@@ -44,18 +44,8 @@ pub struct Args {
     /// Leave out the published references (exponents 2 and 1.83, PythagenPat 0.287, Pythagenport 1.5/0.45).
     #[arg(long)]
     pub no_references: bool,
-    /// Bootstrap resamples for percentile intervals (0: none; at most 100000).
-    #[arg(long, default_value_t = 0, value_name = "N", value_parser = values::count::<{ values::MAX_BOOTSTRAP }>)]
-    pub bootstrap: usize,
-    /// Seed of the bootstrap's random streams.
-    #[arg(long, default_value_t = 1, value_name = "S")]
-    pub seed: u64,
-    /// Resample team-seasons, or whole seasons (keeps within-season dependence).
-    #[arg(long, value_enum, default_value_t = ResampleArg::Team)]
-    pub resample: ResampleArg,
-    /// Coverage of the bootstrap intervals.
-    #[arg(long, default_value_t = 0.95, value_name = "L", value_parser = level, allow_negative_numbers = true)]
-    pub ci_level: f64,
+    #[command(flatten)]
+    pub boot: BootstrapArgs,
     /// Save the first model's calibration as a profile for `luck` and `check`.
     #[arg(long, value_name = "FILE")]
     pub save_profile: Option<String>,
@@ -94,13 +84,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         min_group: args.min_group,
         references: args.references.clone(),
         standard_references: !args.no_references,
-        bootstrap: (args.bootstrap > 0).then(|| bootstrap::Options {
-            resamples: args.bootstrap,
-            seed: args.seed,
-            resample: args.resample.into(),
-            level: args.ci_level,
-            progress: Some(&tick),
-        }),
+        bootstrap: args.boot.options(Some(&tick)),
         top: args.top,
         // JSON shows no team lines (one per team-season of a game log); the chart does.
         team_lines: args.output.format != FormatArg::Json || args.plot.is_some(),
@@ -154,7 +138,7 @@ fn bootstrap_bar(
     quiet: bool,
 ) -> indicatif::ProgressBar {
     use std::io::IsTerminal;
-    if args.bootstrap == 0 || quiet || !std::io::stderr().is_terminal() {
+    if args.boot.bootstrap == 0 || quiet || !std::io::stderr().is_terminal() {
         return indicatif::ProgressBar::hidden();
     }
     let groups = args.by.map_or(1, |by| {
@@ -163,7 +147,7 @@ fn bootstrap_bar(
             .filter(|(_, idx)| idx.len() >= args.min_group)
             .count()
     });
-    let bar = indicatif::ProgressBar::new((args.bootstrap * models * groups) as u64);
+    let bar = indicatif::ProgressBar::new((args.boot.bootstrap * models * groups) as u64);
     bar.set_style(
         indicatif::ProgressStyle::with_template(
             "bootstrap {bar:40} {pos}/{len} resamples, {eta} left",
