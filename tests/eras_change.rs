@@ -53,12 +53,11 @@ fn change_test(rows: &[SeasonRow], by: ChangeBy) -> ChangeTest {
 /// (DESIGN's noise model); the simulator's binomial wins are pulled toward n·p̂ to that variance.
 const DISPERSION: f64 = 0.4;
 
-fn underdispersed(rows: Vec<SeasonRow>, truth: f64) -> Vec<SeasonRow> {
+fn underdispersed(rows: Vec<SeasonRow>, truth: &Model) -> Vec<SeasonRow> {
     rows.into_iter()
         .map(|r| {
             let n = r.games as f64;
-            let l = (r.runs_scored as f64 / r.runs_allowed as f64).ln();
-            let mean = n / (1.0 + (-truth * l).exp());
+            let mean = n * truth.expected_win_pct(r.runs_scored as f64, r.runs_allowed as f64, n);
             let wins = (mean + DISPERSION.sqrt() * (r.wins as f64 - mean))
                 .round()
                 .clamp(0.0, n) as u64;
@@ -77,12 +76,12 @@ fn truth_league(seed: u64, before: usize, after: usize, step: f64) -> Vec<Season
     let rpg = (8.0, 10.0);
     let first = Model::new(ModelKind::Pythagorean, vec![1.8]);
     let early = simulate::truth_seasons(&design(before, 2001, seed), &first, rpg).unwrap();
-    let mut rows = underdispersed(early, 1.8);
+    let mut rows = underdispersed(early, &first);
     if after > 0 {
         let second = Model::new(ModelKind::Pythagorean, vec![1.8 + step]);
         let later = design(after, 2001 + before as i32, seed ^ 0x5eed);
         let late = simulate::truth_seasons(&later, &second, rpg).unwrap();
-        rows.extend(underdispersed(late, 1.8 + step));
+        rows.extend(underdispersed(late, &second));
     }
     rows
 }
@@ -141,4 +140,30 @@ fn a_step_shows_in_the_windows_and_not_in_the_run_environment() {
     // The recommended span stays after the step (it starts in season 13 or later).
     let chosen = a.recommendation.chosen().unwrap();
     assert!(chosen.first >= 2013, "{chosen:?}");
+}
+
+#[test]
+#[ignore = "200 simulated leagues; CI runs it in release"]
+fn the_gap_to_pythagenpat_has_the_standard_error_it_reports() {
+    // Truth: PythagenPat with z = 0.28 in run environments from 7 to 11 runs a game, so the run
+    // environment explains all drift and every gap's expectation is (nearly) zero. A standard error is
+    // right when gap/SE has standard deviation 1 across leagues (definition of a standard error);
+    // with 200 leagues the SD of that SD is about 0.05.
+    let truth = Model::new(ModelKind::Pythagenpat, vec![0.28]);
+    let mut z = Vec::new();
+    for seed in 0..200 {
+        let d = design(20, 2001, 7000 + seed);
+        let rows = underdispersed(simulate::truth_seasons(&d, &truth, (7.0, 11.0)).unwrap(), &truth);
+        let rows: Vec<TeamSeason> = rows.iter().map(|r| r.team_season(None)).collect();
+        let t = Table::new(&rows, TiePolicy::Half, Weighting::None);
+        let a = eras::analyse(&t, &rows, &options()).unwrap();
+        let w = a.windows[0].fit.as_ref().unwrap();
+        z.push(w.gap_history / w.gap_history_se);
+    }
+    let n = z.len() as f64;
+    let mean = z.iter().sum::<f64>() / n;
+    let sd = (z.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
+    println!("gap / SE over 200 leagues: mean {mean:.3}, SD {sd:.3}");
+    assert!(mean.abs() < 0.25, "mean {mean}");
+    assert!((0.85..=1.15).contains(&sd), "SD {sd}");
 }
