@@ -153,7 +153,10 @@ fn the_gap_to_pythagenpat_has_the_standard_error_it_reports() {
     let mut z = Vec::new();
     for seed in 0..200 {
         let d = design(20, 2001, 7000 + seed);
-        let rows = underdispersed(simulate::truth_seasons(&d, &truth, (7.0, 11.0)).unwrap(), &truth);
+        let rows = underdispersed(
+            simulate::truth_seasons(&d, &truth, (7.0, 11.0)).unwrap(),
+            &truth,
+        );
         let rows: Vec<TeamSeason> = rows.iter().map(|r| r.team_season(None)).collect();
         let t = Table::new(&rows, TiePolicy::Half, Weighting::None);
         let a = eras::analyse(&t, &rows, &options()).unwrap();

@@ -20,6 +20,16 @@ fn text_err<E: std::fmt::Display>(e: E) -> String {
     e.to_string()
 }
 
+/// An axis range at least `span` wide, about the same centre.
+fn widen((lo, hi): (f64, f64), span: f64) -> (f64, f64) {
+    if hi - lo >= span {
+        (lo, hi)
+    } else {
+        let mid = (lo + hi) / 2.0;
+        (mid - span / 2.0, mid + span / 2.0)
+    }
+}
+
 /// The chart as an SVG document.
 pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
     let a = &r.analysis;
@@ -55,7 +65,10 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
             ("sans-serif", 22).into_font(),
         ))
         .map_err(text_err)?;
-        let (x0, x1) = bounds(runs.iter().map(|p| p.0));
+        // At least a season either side, so a single window still has an axis.
+        let (x0, x1) = widen(bounds(runs.iter().map(|p| p.0)), 2.0);
+        // Tick labels are whole seasons: never more labels than seasons on the axis.
+        let x_labels = ((x1 - x0).floor() as usize + 1).clamp(2, 12);
         let (y0, y1) = bounds(fitted.iter().flat_map(|(_, f)| {
             let (lo, hi) = band(f);
             [lo, hi, f.implied_history, f.implied_published]
@@ -72,6 +85,7 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
             .map_err(text_err)?;
         chart
             .configure_mesh()
+            .x_labels(x_labels)
             .x_label_formatter(&|v| format!("{v:.0}"))
             .y_label_formatter(&|v| format!("{v:.2}"))
             .y_desc("exponent")
@@ -98,6 +112,22 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
             .map_err(text_err)?
             .label("window exponent (log-loss fit)")
             .legend(|(x, y)| PathElement::new([(x, y), (x + 20, y)], EXPONENT.stroke_width(2)));
+        // Few windows: mark each one, its band as a bar, so that a single window is still visible.
+        if fitted.len() <= 30 {
+            chart
+                .draw_series(fitted.iter().map(|(x, f)| {
+                    let (lo, hi) = band(f);
+                    PathElement::new([(*x, lo), (*x, hi)], BAND.stroke_width(6))
+                }))
+                .map_err(text_err)?;
+            chart
+                .draw_series(
+                    fitted
+                        .iter()
+                        .map(|(x, f)| Circle::new((*x, f.exponent), 3, EXPONENT.filled())),
+                )
+                .map_err(text_err)?;
+        }
         for (colour, label, pick) in [
             (
                 IMPLIED_HISTORY,
@@ -128,6 +158,15 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
                 .legend(move |(x, y)| {
                     PathElement::new([(x, y), (x + 20, y)], colour.stroke_width(2))
                 });
+            if fitted.len() <= 30 {
+                chart
+                    .draw_series(
+                        fitted
+                            .iter()
+                            .map(|(x, f)| Circle::new((*x, pick(f)), 3, colour.filled())),
+                    )
+                    .map_err(text_err)?;
+            }
         }
         chart
             .configure_series_labels()
@@ -138,7 +177,8 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
             .draw()
             .map_err(text_err)?;
 
-        let (r0, r1) = bounds(runs.iter().map(|p| p.1));
+        // At least one run of range, so that a few hundredths do not look like a change of era.
+        let (r0, r1) = widen(bounds(runs.iter().map(|p| p.1)), 1.0);
         let mut lower = ChartBuilder::on(&bottom)
             .margin_left(20)
             .margin_right(30)
@@ -149,6 +189,7 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
             .map_err(text_err)?;
         lower
             .configure_mesh()
+            .x_labels(x_labels)
             .x_label_formatter(&|v| format!("{v:.0}"))
             .y_label_formatter(&|v| format!("{v:.2}"))
             .x_desc("last season of the window")
@@ -161,6 +202,11 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
         lower
             .draw_series(LineSeries::new(runs.iter().copied(), RUNS.stroke_width(2)))
             .map_err(text_err)?;
+        if runs.len() <= 30 {
+            lower
+                .draw_series(runs.iter().map(|&p| Circle::new(p, 3, RUNS.filled())))
+                .map_err(text_err)?;
+        }
         foot.draw(&Text::new(
             eras::CAUTION,
             (20, 14),
