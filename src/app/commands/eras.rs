@@ -13,6 +13,10 @@ use runcal::report::eras::EraReport;
 /// published 0.287) and the gap between them; tests whether one exponent fits every season (a
 /// quasi-likelihood F test); and names the shortest recent span to calibrate on.
 ///
+/// With --bootstrap N (at most 100000 per window) each window draws from its own seed, derived from
+/// --seed and shown as `bootstrap_seed` in the JSON: `runcal fit --seasons A-B --bootstrap N --seed
+/// <that seed>` reproduces the window's interval.
+///
 /// Example:
 ///   runcal eras demo-data/meridian-league.csv --window 5
 ///   runcal eras teams.csv --map runs_scored=R --window 10 --bootstrap 1000 --plot eras.svg
@@ -41,8 +45,6 @@ pub struct Args {
     /// The change test's alternative: one exponent per season, or per block of N seasons.
     #[arg(long, value_enum, default_value_t = ChangeByArg::Season)]
     pub change_by: ChangeByArg,
-    /// Bootstrap intervals per window (--bootstrap at most 100000); each window draws from its own
-    /// seed derived from --seed (`bootstrap_seed` in the JSON).
     #[command(flatten)]
     pub boot: BootstrapArgs,
     /// Draw the exponent over time with its band, the implied exponents and runs per game (SVG).
