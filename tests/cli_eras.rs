@@ -322,7 +322,7 @@ fn refused(args: &[&str], says: &str) {
 #[test]
 fn hostile_options_are_refused_with_exit_2() {
     let demo = "demo-data/meridian-league.csv";
-    let cases: [(&[&str], &str); 12] = [
+    let cases: [(&[&str], &str); 13] = [
         (&["--window", "0"], "--window must be at least 1"),
         (&["--window", "-3"], "--window must be at least 1"),
         (&["--window", "26"], "longer than the 25 season(s)"),
@@ -330,7 +330,11 @@ fn hostile_options_are_refused_with_exit_2() {
             &["--seasons", "2019", "--window", "2"],
             "longer than the 1 season(s)",
         ),
-        (&["--bootstrap", "100001"], "--bootstrap takes 2 to 100000"),
+        (
+            &["--bootstrap", "100001"],
+            "at most 100000 (a documented limit)",
+        ),
+        (&["--bootstrap", "1"], "--bootstrap takes 2 to 100000"),
         (&["--bootstrap", "99999999999999999999"], "--bootstrap"),
         (&["--target-se", "0"], "--target-se"),
         (&["--target-se", "NaN"], "--target-se"),

@@ -3,7 +3,7 @@
 //! (`allow_negative_numbers`) so that `--exponent -1` meets the domain message, not "unexpected
 //! argument".
 
-/// Resamples `fit --bootstrap` draws at most (each refits the model).
+/// Resamples `--bootstrap` draws at most (each refits the model; in `eras`, per window).
 pub const MAX_BOOTSTRAP: u64 = 100_000;
 /// Teams listed by `--top`.
 pub const MAX_TOP: u64 = 1_000_000;
