@@ -322,9 +322,10 @@ fn refused(args: &[&str], says: &str) {
 #[test]
 fn hostile_options_are_refused_with_exit_2() {
     let demo = "demo-data/meridian-league.csv";
-    let cases: [(&[&str], &str); 13] = [
+    let cases: [(&[&str], &str); 14] = [
         (&["--window", "0"], "--window must be at least 1"),
-        (&["--window", "-3"], "--window must be at least 1"),
+        (&["--window", "-3"], "expected a whole number"),
+        (&["--window", "20000"], "at most 10000 (a documented limit)"),
         (&["--window", "26"], "longer than the 25 season(s)"),
         (
             &["--seasons", "2019", "--window", "2"],

@@ -5,6 +5,8 @@
 
 /// Resamples `--bootstrap` draws at most (each refits the model; in `eras`, per window).
 pub const MAX_BOOTSTRAP: u64 = 100_000;
+/// Seasons in an `eras --window` (0 is refused by the analysis itself, with its own message).
+pub const MAX_WINDOW: u64 = 10_000;
 /// Teams listed by `--top`.
 pub const MAX_TOP: u64 = 1_000_000;
 

@@ -2,6 +2,7 @@
 //! environment explains.
 
 use crate::app::args::{self, BootstrapArgs, ChangeByArg, InputArgs, OutputArgs, WindowsArg};
+use crate::app::values;
 use runcal::eras;
 use runcal::error::Error;
 use runcal::report::eras::EraReport;
@@ -26,13 +27,9 @@ pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
     /// Seasons per window (and per block with --change-by block).
-    #[arg(
-        long,
-        default_value_t = 10,
-        value_name = "N",
-        allow_negative_numbers = true
-    )]
-    pub window: i64,
+    #[arg(long, default_value_t = 10, value_name = "N", allow_negative_numbers = true,
+          value_parser = values::count::<{ values::MAX_WINDOW }>)]
+    pub window: usize,
     /// Rolling windows of N seasons, or expanding windows from the first season.
     #[arg(long, value_enum, default_value_t = WindowsArg::Rolling)]
     pub windows: WindowsArg,
@@ -64,17 +61,8 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         ],
         files,
     )?;
-    let window = usize::try_from(args.window)
-        .ok()
-        .filter(|&w| w > 0)
-        .ok_or_else(|| {
-            Error::Usage(format!(
-                "--window must be at least 1 season, got {}",
-                args.window
-            ))
-        })?;
     let opts = eras::Options {
-        window,
+        window: args.window,
         kind: args.windows.into(),
         min_group: args.min_group,
         target_se: args.target_se,
@@ -85,6 +73,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     opts.validate(usize::MAX)
         .map_err(|e| Error::Usage(e.to_string()))?;
     let (ds, table) = super::load(&args.input, None, &diag)?;
+    super::warn_unbalanced(&args.input, &ds, &diag);
     let analysis = eras::analyse(&table, &ds.rows, &opts)?;
     let report = EraReport {
         rows_used: ds.rows.len(),
