@@ -322,10 +322,14 @@ fn refused(args: &[&str], says: &str) {
 #[test]
 fn hostile_options_are_refused_with_exit_2() {
     let demo = "demo-data/meridian-league.csv";
-    let cases: [(&[&str], &str); 14] = [
+    let cases: [(&[&str], &str); 15] = [
         (&["--window", "0"], "--window must be at least 1"),
         (&["--window", "-3"], "expected a whole number"),
         (&["--window", "20000"], "at most 10000 (a documented limit)"),
+        (
+            &["--window", "1", "--bootstrap", "10", "--resample", "season"],
+            "at least 2 seasons",
+        ),
         (&["--window", "26"], "longer than the 25 season(s)"),
         (
             &["--seasons", "2019", "--window", "2"],

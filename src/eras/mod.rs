@@ -93,6 +93,12 @@ impl Options {
                     b.resamples
                 ));
             }
+            if b.resample == bootstrap::Resample::Season && self.window < 2 {
+                return bad(
+                    "--resample season draws whole seasons: it needs windows of at least 2 seasons"
+                        .to_string(),
+                );
+            }
             if !(b.level > 0.0 && b.level < 1.0) {
                 return bad(format!(
                     "--ci-level must lie between 0 and 1, got {}",

@@ -11,7 +11,7 @@ fn with_se(v: f64, se: f64) -> String {
     format!("{} ± {}", signed(v, 3), num(se, 3))
 }
 
-fn window_row(w: &Window, with_interval: bool) -> Vec<String> {
+fn window_row(w: &Window, with_interval: bool, min_group: usize) -> Vec<String> {
     let mut row = vec![
         span_text(w.first, w.last),
         w.rows.to_string(),
@@ -33,7 +33,11 @@ fn window_row(w: &Window, with_interval: bool) -> Vec<String> {
             ]);
         }
         None => {
-            row.push("too few team-seasons to fit".to_string());
+            row.push(if w.rows < min_group {
+                format!("fewer than {min_group} team-seasons")
+            } else {
+                "no fit (no informative rows)".to_string()
+            });
             let blanks = if with_interval { 6 } else { 5 };
             row.extend(std::iter::repeat_n("-".to_string(), blanks));
         }
@@ -175,7 +179,7 @@ pub fn render(r: &EraReport) -> String {
     ]);
     let mut t = new_table(&header, 1);
     for w in &a.windows {
-        t.add_row(window_row(w, with_interval));
+        t.add_row(window_row(w, with_interval, a.min_group));
     }
     out.push_str(&t.to_string());
     out.push('\n');
