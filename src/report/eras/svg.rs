@@ -6,7 +6,7 @@ use plotters::prelude::*;
 use super::{EraReport, span};
 use crate::eras;
 use crate::error::Error;
-use crate::report::svg::{bounds, render};
+use crate::report::svg::{Frame, bounds, render};
 
 const BAND: RGBColor = RGBColor(158, 202, 225);
 const EXPONENT: RGBColor = RGBColor(8, 81, 156);
@@ -47,7 +47,7 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
     let band = |f: &eras::WindowFit| f.interval.unwrap_or(f.normal_interval);
     let band_name = match a.ci_level {
         Some(level) => format!("{:.0}% bootstrap interval", level * 100.0),
-        None => "95%: ±1.96 standard errors".to_string(),
+        None => "95%, ±1.96 standard errors".to_string(),
     };
     let title = format!(
         "Pythagorean exponent, {} {}-season windows, {}",
@@ -55,16 +55,16 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
         a.window,
         span(a.history.first, a.history.last)
     );
-    render(1000, 760, |root: Area| {
-        let (head, rest) = root.split_vertically(44);
-        let (body, foot) = rest.split_vertically(760 - 44 - 46);
-        let (top, bottom) = body.split_vertically(430);
-        head.draw(&Text::new(
-            title.as_str(),
-            (20, 12),
-            ("sans-serif", 22).into_font(),
-        ))
-        .map_err(text_err)?;
+    let frame = Frame {
+        title,
+        subtitle: format!(
+            "{} team-seasons; each point is the window ending that season; band: {band_name}; \
+             neighbouring windows share seasons",
+            r.rows_used
+        ),
+    };
+    let svg = render(1000, 680, &frame, |root: Area| {
+        let (top, bottom) = root.split_vertically(430);
         // At least a season either side, so a single window still has an axis.
         let (x0, x1) = widen(bounds(runs.iter().map(|p| p.0)), 2.0);
         // Tick labels are whole seasons: never more labels than seasons on the axis.
@@ -207,12 +207,7 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
                 .draw_series(runs.iter().map(|&p| Circle::new(p, 3, RUNS.filled())))
                 .map_err(text_err)?;
         }
-        foot.draw(&Text::new(
-            eras::CAUTION,
-            (20, 14),
-            ("sans-serif", 13).into_font().color(&BLACK.mix(0.7)),
-        ))
-        .map_err(text_err)?;
         Ok(())
-    })
+    })?;
+    Ok(svg.into_bytes())
 }
