@@ -23,10 +23,12 @@ use crate::fit::loss::{Metrics, Sums, row_nll};
 use crate::model::{ModelKind, Row, logit_derivatives, predict};
 
 /// Order of the one-parameter score polynomials.
-const ORDER: usize = 6;
-/// Columns of a prepared row: ORDER + 1 score coefficients, padded to an even width; for
+const ORDER: usize = 8;
+/// Columns of a prepared row: ORDER + 1 score coefficients and the row's nll at θ0; for
 /// Pythagenport the gradient (2) and Hessian (3) at θ0.
-const WIDTH: usize = 8;
+const WIDTH: usize = ORDER + 2;
+/// The column of a one-parameter row's nll at θ0.
+const NLL: usize = ORDER + 1;
 /// Exact passes allowed before the general solver takes over.
 const PASSES: usize = 5;
 /// A counted p̂ closer than this to 0 or 1 (or past them) is at the log-loss clamp, where the loss
@@ -146,6 +148,8 @@ impl Prepared {
                         let s = score_series(&p, t.wins[i], t.losses[i]);
                         out[..=ORDER].copy_from_slice(&s);
                     }
+                    let p0 = predict(kind, theta0, &Row::of(t, i));
+                    out[NLL] = row_nll(t.wins[i], t.losses[i], p0);
                     rows.push(out);
                 }
             }
@@ -187,7 +191,7 @@ impl Prepared {
     /// The predicted optimum of a resample: the root of its score polynomial nearest θ0 (one
     /// parameter) or the exact Newton step from θ0 (Pythagenport). `None` when the prediction
     /// finds no minimum.
-    fn predict(&self, counts: &[f64], drawn: &[u32]) -> Option<[f64; 2]> {
+    fn predict(&self, counts: &[f64], drawn: &[u32]) -> Option<([f64; 2], [f64; WIDTH])> {
         let mut s = [0.0; WIDTH];
         for &i in drawn {
             let (c, row) = (counts[i as usize], &self.rows[i as usize]);
@@ -198,7 +202,7 @@ impl Prepared {
         let t0 = self.theta0;
         if self.dim() == 2 {
             let delta = step2(&[s[0], s[1]], &[[s[2], s[3]], [s[3], s[4]]])?;
-            return Some([t0[0] + delta[0], t0[1] + delta[1]]);
+            return Some(([t0[0] + delta[0], t0[1] + delta[1]], s));
         }
         let mut d = 0.0;
         for _ in 0..30 {
@@ -216,15 +220,24 @@ impl Prepared {
                 return None;
             }
             if step.abs() <= 1e-15 * t0[0].abs().max(1.0) {
-                return Some([t0[0] + d, 0.0]);
+                return Some(([t0[0] + d, 0.0], s));
             }
         }
         None
     }
 
     /// Gradient and Hessian of the resample's total negative log-likelihood at θ, the distance of
-    /// the nearest counted p̂ to 0 or 1, and (when asked) every metric's running sums.
-    fn pass(&self, t: &Table, theta: &[f64], counts: &[f64], drawn: &[u32], metrics: bool) -> Pass {
+    /// the nearest counted p̂ to 0 or 1, and (when asked) every metric's running sums, without the
+    /// log-likelihood when `series_nll` (the caller takes it from the series, with no ln per row).
+    fn pass(
+        &self,
+        t: &Table,
+        theta: &[f64],
+        counts: &[f64],
+        drawn: &[u32],
+        metrics: bool,
+        series_nll: bool,
+    ) -> Pass {
         let mut out = Pass {
             gradient: [0.0; 2],
             hessian: [[0.0; 2]; 2],
@@ -263,7 +276,12 @@ impl Prepared {
                 out.edge.min(p).min(1.0 - p)
             };
             if let Some(sums) = out.sums.as_mut() {
-                sums.add(t, i, c, p, row_nll(t.wins[i], t.losses[i], p));
+                let nll = if series_nll {
+                    0.0
+                } else {
+                    row_nll(t.wins[i], t.losses[i], p)
+                };
+                sums.add(t, i, c, p, nll);
             }
         }
         out
@@ -273,12 +291,16 @@ impl Prepared {
     /// `drawn`: the rows whose count is not zero, ascending.
     pub fn refit(&self, t: &Table, counts: &[f64], drawn: &[u32]) -> Option<(Vec<f64>, Metrics)> {
         let k = self.dim();
-        let mut theta = self.predict(counts, drawn)?;
+        let (mut theta, series) = self.predict(counts, drawn)?;
         // A one-parameter prediction is usually exact to rounding, so its first pass scores too;
         // Pythagenport's first step is not, so its metrics wait for a small step.
         let mut metrics = k == 1;
-        for _ in 0..PASSES {
-            let pass = self.pass(t, &theta[..k], counts, drawn, metrics);
+        for n in 0..PASSES {
+            // PythagenPat's series (radius about 1/ln RPG, far beyond a resample's move) gives the
+            // log-likelihood when its own prediction passed the exact check; the linear series'
+            // radius is only as wide as the nearest row's distance from 0 or 1, so it takes ln.
+            let series_nll = self.kind == ModelKind::Pythagenpat && n == 0;
+            let pass = self.pass(t, &theta[..k], counts, drawn, metrics, series_nll);
             let delta = if k == 1 {
                 let h = pass.hessian[0][0];
                 (h > 0.0 && pass.gradient[0].is_finite()).then(|| [-pass.gradient[0] / h, 0.0])
@@ -294,8 +316,17 @@ impl Prepared {
             if let (true, Some(sums)) = (small, pass.sums.as_ref()) {
                 let params: Vec<f64> = (0..k).map(|a| theta[a] + delta[a]).collect();
                 let positive = self.kind == ModelKind::Pythagenport || params[0] > 0.0;
-                return (positive && params.iter().all(|v| v.is_finite()))
-                    .then(|| (params, sums.metrics()));
+                let mut m = sums.metrics();
+                if series_nll {
+                    // Σ c·nll(θ0) + ∫ score from θ0 to the optimum, by Horner.
+                    let d = params[0] - self.theta0[0];
+                    let mut integral = 0.0;
+                    for (j, &c) in series[..=ORDER].iter().enumerate().rev() {
+                        integral = integral * d + c / (j + 1) as f64;
+                    }
+                    m.logloss = (series[NLL] + integral * d) / sums.games;
+                }
+                return (positive && params.iter().all(|v| v.is_finite())).then_some((params, m));
             }
             for a in 0..k {
                 theta[a] += delta[a];
