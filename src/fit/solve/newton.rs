@@ -77,15 +77,6 @@ impl<'a> LogLikelihood<'a> {
         d
     }
 
-    /// Whether every counted row has p̂ inside (0, 1), and both wins and losses.
-    fn all_inside(&self, theta: &[f64]) -> bool {
-        let (p, t) = (&self.problem, self.problem.table);
-        (0..t.len()).all(|i| {
-            let q = predict(p.kind, theta, &Row::of(t, i));
-            p.count(i) == 0.0 || (q > 0.0 && q < 1.0 && t.wins[i] > 0.0 && t.losses[i] > 0.0)
-        })
-    }
-
     /// Whether every counted row's p̂ stays clear of the log-loss clamp, where the loss stops being
     /// the smooth function whose derivatives are computed here.
     fn off_the_clamp(&self, theta: &[f64]) -> bool {
@@ -227,37 +218,6 @@ pub fn polish(p: Problem<'_>, found: &Outcome) -> Option<Outcome> {
         params,
         loss,
         iterations: found.iterations + iterations,
-        converged: true,
-    })
-}
-
-/// The bootstrap's fast path for PythagenPat, the linear model and Pythagenport: Newton from a
-/// nearby optimum (the full-data fit) on a resample's weighted log-loss, kept when it converges
-/// within 20 steps, each taken on a positive definite Hessian (so the point it ends within 1e-12
-/// of is a local minimum), with p̂ off the clamp for Pythagenport as in [`minimise`]. `None` otherwise,
-/// and the caller runs the general solver. The loss is left for the caller's metrics pass (NaN).
-pub fn from_nearby(p: Problem<'_>, start: &[f64]) -> Option<Outcome> {
-    let problem = LogLikelihood::new(p);
-    let two = p.kind == ModelKind::Pythagenport;
-    if two && p.table.ln_ratio.iter().any(|l| !l.is_finite()) {
-        return None;
-    }
-    let (params, iterations) = newton(&problem, start, |th| two || th[0] > 0.0)?;
-    if iterations > 20 || (two && !problem.off_the_clamp(&params)) {
-        return None;
-    }
-    // The clamped linear log-loss is convex in 1/r only while every row's p̂ lies inside (0, 1):
-    // a row pushed past 0 or 1 keeps its clamped loss whatever r does, and the loss can have
-    // another minimum there (the 1870s rows do this on the full history). So the fast path only
-    // keeps an optimum with every counted row inside, none of them without wins or losses (whose
-    // loss keeps falling as p̂ reaches 0 or 1); otherwise the general solver decides.
-    if p.kind == ModelKind::Linear && !problem.all_inside(&params) {
-        return None;
-    }
-    Some(Outcome {
-        params,
-        loss: f64::NAN,
-        iterations,
         converged: true,
     })
 }
