@@ -219,3 +219,27 @@ fn committed_demo_profile_is_current() {
     let committed = std::fs::read(repo().join("demo-data/meridian-profile.json")).unwrap();
     assert!(demo_profile() == committed, "rerun demo-data/make-demo.sh");
 }
+
+#[test]
+fn outlook_json() {
+    check(
+        "outlook.json",
+        &[
+            "outlook",
+            "demo-data/meridian-2026-to-date.csv",
+            "--schedule",
+            "demo-data/meridian-2026-schedule.csv",
+            "--groups",
+            "demo-data/meridian-divisions.csv",
+            "--profile",
+            "demo-data/meridian-profile.json",
+            "--simulations",
+            "500",
+            "--target-wins",
+            "80",
+            "--format",
+            "json",
+            "-q",
+        ],
+    );
+}

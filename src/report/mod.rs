@@ -6,6 +6,7 @@ pub mod document;
 pub mod grid;
 pub mod json;
 pub mod luck;
+pub mod outlook;
 pub mod svg;
 pub mod table;
 
