@@ -199,100 +199,54 @@ fn empty_and_header_only_schedules() {
         .stdout(predicate::str::contains("none (the season is over)"));
 }
 
+/// Run the demo to date with one extra file option; the assertion on the outcome.
+fn with_file(option: &str, path: &str) -> assert_cmd::assert::Assert {
+    runcal()
+        .args(["outlook", TO_DATE, "--profile", PROFILE, option, path])
+        .args(["--simulations", "10", "--format", "json"])
+        .assert()
+}
+
 #[test]
 fn schedule_problems_name_the_file_and_line() {
     let dir = tempfile::tempdir().unwrap();
-    let stranger = write(
-        &dir,
-        "s.csv",
-        "date,home,away\n2026-08-01,Dunmore Lanterns,Ironvale Rams\n2026-08-02,Nowhere Nine,Ironvale Rams\n",
-    );
-    runcal()
-        .args([
-            "outlook",
-            TO_DATE,
-            "--profile",
-            PROFILE,
-            "--schedule",
-            &stranger,
-        ])
-        .assert()
-        .code(2)
-        .stderr(
-            predicate::str::contains("s.csv:3").and(predicate::str::contains(
-                "'Nowhere Nine' has no played games",
-            )),
-        );
-    let twice = write(
-        &dir,
-        "t.csv",
-        "date,home,away\n2026-08-01,Dunmore Lanterns,Ironvale Rams\n2026-08-01,Dunmore Lanterns,Ironvale Rams\n",
-    );
-    runcal()
-        .args([
-            "outlook",
-            TO_DATE,
-            "--profile",
-            PROFILE,
-            "--schedule",
-            &twice,
-        ])
-        .assert()
-        .code(2)
-        .stderr(
-            predicate::str::contains("t.csv:3").and(predicate::str::contains(
-                "duplicate game 2026-08-01 Ironvale Rams at Dunmore Lanterns (first at",
-            )),
-        );
+    let refused = [
+        (
+            "s.csv",
+            "date,home,away\n2026-08-01,Dunmore Lanterns,Ironvale Rams\n2026-08-02,Nowhere Nine,Ironvale Rams\n",
+            "s.csv:3",
+            "'Nowhere Nine' has no played games",
+        ),
+        (
+            "t.csv",
+            "date,home,away\n2026-08-01,Dunmore Lanterns,Ironvale Rams\n2026-08-01,Dunmore Lanterns,Ironvale Rams\n",
+            "t.csv:3",
+            "duplicate game 2026-08-01 Ironvale Rams at Dunmore Lanterns (first at",
+        ),
+        (
+            "c.csv",
+            "date,home,away\n2026-08-01,Dunmore Lanterns,\u{1b}]0;x\u{7}Rams\n",
+            "c.csv:2",
+            "control character",
+        ),
+    ];
+    for (name, text, at, reason) in refused {
+        let path = write(&dir, name, text);
+        with_file("--schedule", &path)
+            .code(2)
+            .stderr(predicate::str::contains(at).and(predicate::str::contains(reason)));
+    }
     // With a game number the same pairing twice on one day is a doubleheader.
     let doubleheader = write(
         &dir,
         "d.csv",
         "date,home,away,game\n2026-08-01,Dunmore Lanterns,Ironvale Rams,1\n2026-08-01,Dunmore Lanterns,Ironvale Rams,2\n",
     );
-    runcal()
-        .args([
-            "outlook",
-            TO_DATE,
-            "--profile",
-            PROFILE,
-            "--schedule",
-            &doubleheader,
-        ])
-        .args(["--simulations", "10", "--format", "json"])
-        .assert()
+    with_file("--schedule", &doubleheader)
         .success()
         .stdout(predicate::str::contains("\"games_left\": 2"));
-    let control = write(
-        &dir,
-        "c.csv",
-        "date,home,away\n2026-08-01,Dunmore Lanterns,\u{1b}]0;x\u{7}Rams\n",
-    );
-    runcal()
-        .args([
-            "outlook",
-            TO_DATE,
-            "--profile",
-            PROFILE,
-            "--schedule",
-            &control,
-        ])
-        .assert()
-        .code(2)
-        .stderr(
-            predicate::str::contains("c.csv:2").and(predicate::str::contains("control character")),
-        );
     let groups = write(&dir, "g.csv", "team,group\nDunmore Lanterns,Upland\n");
-    runcal()
-        .args([
-            "outlook",
-            TO_DATE,
-            "--profile",
-            PROFILE,
-            "--groups",
-            &groups,
-        ])
-        .assert()
+    with_file("--groups", &groups)
         .code(2)
         .stderr(predicate::str::contains("has no group in"));
 }

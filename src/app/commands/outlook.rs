@@ -21,8 +21,9 @@ use runcal::report::outlook::OutlookReport;
 /// at most 100,000 games left and 10,000 clubs. Inputs must be regular files (they are read twice).
 ///
 /// Example:
-///   runcal outlook demo-data/meridian-2026-games.csv --as-of 2026-07-15
-///       --groups demo-data/meridian-groups.csv --profile demo-data/meridian-profile.json
+///   runcal outlook demo-data/meridian-2026-to-date.csv --schedule demo-data/meridian-2026-schedule.csv
+///       --groups demo-data/meridian-divisions.csv --profile demo-data/meridian-profile.json
+///   runcal outlook demo-data/meridian-2026-games.csv --as-of 2026-07-15 --target-wins 80
 #[derive(Debug, clap::Args)]
 #[command(verbatim_doc_comment)]
 pub struct Args {
