@@ -1,6 +1,7 @@
 //! Criterion benchmarks of runcal's hot paths: loss evaluation per row, each model's fit, a
-//! bootstrap, a backtest, game-log aggregation and the era windows. Data: the Baseball Databank team table in
-//! tests/data, and leagues simulated with `runcal::simulate`.
+//! bootstrap, a backtest, game-log aggregation, the era windows and the rest-of-season
+//! simulation. Data: the Baseball Databank team table in tests/data, and leagues simulated with
+//! `runcal::simulate`.
 //!
 //! `cargo bench` runs them all in a few minutes; `cargo bench -- bootstrap` runs one group.
 //! Whole-program comparisons with a numpy/scipy/pandas reference are in bench/compare.sh.
@@ -232,6 +233,61 @@ fn era_windows(c: &mut Criterion) {
     g.finish();
 }
 
+/// The rest-of-season simulation: 10,000 seasons of a 30-club league in six groups with 1,200 games
+/// left, the league's first 1,230 games of a simulated season banked (target: < 0.5 s on 2 cores).
+fn outlooks(c: &mut Criterion) {
+    use runcal::outlook::{self, Club, HomeEdge, League, Settings, Shrinkage};
+    let d = design(30, 1, 162);
+    let mut played: Vec<(u64, u64, f64, f64)> = vec![(0, 0, 0.0, 0.0); 30];
+    let mut games = Vec::new();
+    let mut n = 0;
+    simulate::games(&d, |g| {
+        n += 1;
+        if n > 1_230 {
+            games.push((g.home as u32, g.away as u32));
+            return;
+        }
+        let home_won = g.home_score > g.away_score;
+        for (team, scored, allowed, won) in [
+            (g.home, g.home_score, g.away_score, home_won),
+            (g.away, g.away_score, g.home_score, !home_won),
+        ] {
+            let r = &mut played[team];
+            r.0 += u64::from(won);
+            r.1 += u64::from(!won);
+            r.2 += scored as f64;
+            r.3 += allowed as f64;
+        }
+    })
+    .unwrap();
+    let clubs = played
+        .iter()
+        .enumerate()
+        .map(|(i, &(w, l, rs, ra))| Club {
+            team: simulate::club_name(i),
+            group: i / 5,
+            wins: w,
+            losses: l,
+            ties: 0,
+            decisions: (w + l) as f64,
+            expected_win_pct: 1.0 / (1.0 + (ra / rs).powf(1.83)),
+        })
+        .collect();
+    let league = League {
+        clubs,
+        group_names: (0..6).map(|g| format!("Group {g}")).collect(),
+        games,
+    };
+    let shrinkage = Shrinkage::from_actual_record(88.0, 0.39);
+    let home = HomeEdge::estimate(Default::default(), Default::default());
+    let mut g = c.benchmark_group("outlook");
+    g.sample_size(10);
+    g.bench_function("10000_seasons_30_clubs_1200_games_left", |b| {
+        b.iter(|| outlook::simulate(&league, &shrinkage, &home, &Settings::default()).unwrap())
+    });
+    g.finish();
+}
+
 fn config() -> Criterion {
     Criterion::default()
         .sample_size(20)
@@ -242,6 +298,6 @@ fn config() -> Criterion {
 criterion_group! {
     name = benches;
     config = config();
-    targets = losses, fits, bootstraps, backtests, game_logs, era_windows
+    targets = losses, fits, bootstraps, backtests, game_logs, era_windows, outlooks
 }
 criterion_main!(benches);

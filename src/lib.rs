@@ -14,6 +14,7 @@ pub mod fit;
 pub mod gate;
 pub mod luck;
 pub mod model;
+pub mod outlook;
 pub mod output;
 pub mod profile;
 pub mod report;

@@ -237,3 +237,27 @@ fn eras_json() {
         ],
     );
 }
+
+#[test]
+fn outlook_json() {
+    check(
+        "outlook.json",
+        &[
+            "outlook",
+            "demo-data/meridian-2026-to-date.csv",
+            "--schedule",
+            "demo-data/meridian-2026-schedule.csv",
+            "--groups",
+            "demo-data/meridian-divisions.csv",
+            "--profile",
+            "demo-data/meridian-profile.json",
+            "--simulations",
+            "500",
+            "--target-wins",
+            "80",
+            "--format",
+            "json",
+            "-q",
+        ],
+    );
+}

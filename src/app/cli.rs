@@ -24,6 +24,7 @@ pub struct Cli {
 pub enum Command {
     Fit(commands::fit::Args),
     Luck(commands::luck::Args),
+    Outlook(commands::outlook::Args),
     Backtest(commands::backtest::Args),
     Check(commands::check::Args),
     Digest(commands::digest::Args),

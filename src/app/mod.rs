@@ -16,6 +16,7 @@ pub fn run(cli: cli::Cli) -> Result<u8> {
     match cli.command {
         Command::Fit(a) => commands::fit::run(&a),
         Command::Luck(a) => commands::luck::run(&a),
+        Command::Outlook(a) => commands::outlook::run(&a),
         Command::Backtest(a) => commands::backtest::run(&a),
         Command::Check(a) => commands::check::run(&a),
         Command::Digest(a) => commands::digest::run(&a),

@@ -5,6 +5,7 @@
 pub mod gamelog;
 pub mod input;
 pub mod roles;
+pub mod schedule;
 pub mod season;
 pub mod table;
 

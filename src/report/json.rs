@@ -77,7 +77,7 @@ pub fn named<'a, T>(names: &'a [&'a str], values: &'a [T]) -> Named<'a, T> {
     Named { names, values }
 }
 
-fn params_of(m: &Model) -> Named<'_, f64> {
+pub fn params_of(m: &Model) -> Named<'_, f64> {
     named(m.kind.param_names(), &m.params)
 }
 

@@ -7,6 +7,7 @@ pub mod eras;
 pub mod grid;
 pub mod json;
 pub mod luck;
+pub mod outlook;
 pub mod svg;
 pub mod table;
 

@@ -4,10 +4,9 @@ use crate::app::args::{InputArgs, OutputArgs, positive};
 use crate::app::values;
 use runcal::data::gamelog::Date;
 use runcal::error::Error;
-use runcal::fit::{self, Loss};
 use runcal::luck;
 use runcal::profile::Profile;
-use runcal::report::{LuckReport, ModelSource};
+use runcal::report::LuckReport;
 
 /// Rank teams by wins above or below what their runs scored and allowed predict
 ///
@@ -76,33 +75,13 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         None => args.input.clone(),
     };
     let (ds, table) = super::load(&input, args.as_of, &diag)?;
-    let (model, source, fitted) = match (&profile, &args.profile, args.exponent) {
-        (Some(p), Some(path), _) => (p.model(), ModelSource::Profile(path.clone()), None),
-        (_, _, Some(x)) => {
-            if !(x.is_finite() && x > 0.0) {
-                return Err(Error::Usage(format!(
-                    "--exponent must be a positive number, got {x}"
-                )));
-            }
-            let m = runcal::model::Model::new(runcal::model::ModelKind::Pythagorean, vec![x]);
-            (m, ModelSource::Given, None)
-        }
-        _ => {
-            let kinds = super::parse_models(&args.model)?;
-            let kind = *kinds
-                .first()
-                .ok_or_else(|| Error::Usage("--model names no model".to_string()))?;
-            let f = fit::fit_model(&table, kind, Loss::Logloss)?;
-            diag.note(&format!(
-                "no --profile: fitted {} on these {} team-seasons ({})",
-                kind,
-                table.len(),
-                runcal::report::table::params(&f)
-            ));
-            let phi = f.std_errors.as_ref().map(|s| s.dispersion);
-            (f.model, ModelSource::Fitted, Some(phi))
-        }
-    };
+    let (model, source, fitted) = super::choose_model(
+        profile.as_ref().zip(args.profile.as_deref()),
+        args.exponent,
+        &args.model,
+        &table,
+        &diag,
+    )?;
     let noise = noise_model(args, profile.as_ref(), fitted, &ds, &table, &model, &diag)?;
     let season_games = args
         .season_games

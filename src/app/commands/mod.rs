@@ -6,6 +6,7 @@ pub mod digest;
 pub mod eras;
 pub mod fit;
 pub mod luck;
+pub mod outlook;
 pub mod simulate;
 
 use crate::app::args::{InputArgs, OutputArgs};
@@ -133,4 +134,55 @@ pub fn guard_outputs(outputs: &[(&str, Option<&String>)], reads: &[String]) -> R
         .filter_map(|(opt, path)| path.map(|p| (*opt, p.as_str())))
         .collect();
     runcal::output::check_outputs(&outputs, &reads)
+}
+
+/// The model to apply, with the same precedence everywhere: a saved calibration, else `--exponent`,
+/// else the first of `--model` fitted by log-loss on the data at hand. The third value is the fit's
+/// measured dispersion when the model was fitted here (`Some(None)`: fitted, no dispersion).
+pub fn choose_model(
+    profile: Option<(&runcal::profile::Profile, &str)>,
+    exponent: Option<f64>,
+    models: &str,
+    table: &Table,
+    diag: &Diagnostics,
+) -> Result<
+    (
+        runcal::model::Model,
+        report::ModelSource,
+        Option<Option<f64>>,
+    ),
+    Error,
+> {
+    use runcal::model::{Model, ModelKind};
+    if let Some((p, path)) = profile {
+        return Ok((
+            p.model(),
+            report::ModelSource::Profile(path.to_string()),
+            None,
+        ));
+    }
+    if let Some(x) = exponent {
+        if !(x.is_finite() && x > 0.0) {
+            return Err(Error::Usage(format!(
+                "--exponent must be a positive number, got {x}"
+            )));
+        }
+        return Ok((
+            Model::new(ModelKind::Pythagorean, vec![x]),
+            report::ModelSource::Given,
+            None,
+        ));
+    }
+    let kind = *parse_models(models)?
+        .first()
+        .ok_or_else(|| Error::Usage("--model names no model".to_string()))?;
+    let f = runcal::fit::fit_model(table, kind, runcal::fit::Loss::Logloss)?;
+    diag.note(&format!(
+        "no --profile: fitted {} on these {} team-seasons ({})",
+        kind,
+        table.len(),
+        report::table::params(&f)
+    ));
+    let phi = f.std_errors.as_ref().map(|s| s.dispersion);
+    Ok((f.model, report::ModelSource::Fitted, Some(phi)))
 }
