@@ -93,13 +93,7 @@ pub fn read_plan(
     let mut group_at: HashMap<String, Location> = HashMap::new();
     for path in logs {
         for_each_row(path, &log_specs, opts, true, |map, at, row| {
-            if opts
-                .left_out_by(
-                    row.season,
-                    Some(row.league.as_str()).filter(|l| !l.is_empty()),
-                )
-                .is_some()
-            {
+            if left_out(opts, &row) {
                 return Ok(());
             }
             if season.is_some_and(|s| row.season < s) {
@@ -169,13 +163,7 @@ pub fn read_plan(
     let mut listed: HashMap<GameKey, Location> = HashMap::new();
     for path in schedules {
         for_each_row(path, &schedule_specs, opts, false, |map, at, row| {
-            if opts
-                .left_out_by(
-                    row.season,
-                    Some(row.league.as_str()).filter(|l| !l.is_empty()),
-                )
-                .is_some()
-            {
+            if left_out(opts, &row) {
                 return Ok(());
             }
             if row.season != season {
@@ -219,6 +207,12 @@ fn add_home(r: &mut HomeRecord, (home, away): (u64, u64)) {
         std::cmp::Ordering::Equal => 0.5,
         std::cmp::Ordering::Less => 0.0,
     };
+}
+
+/// Whether `--seasons` or `--league` leaves this row out (an empty league cell names no league).
+fn left_out(opts: &LoadOptions, row: &Row) -> bool {
+    let league = Some(row.league.as_str()).filter(|l| !l.is_empty());
+    opts.left_out_by(row.season, league).is_some()
 }
 
 fn fixture(row: &Row, at: Location) -> Fixture {

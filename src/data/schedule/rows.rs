@@ -65,25 +65,6 @@ pub(super) struct Row {
     pub scores: Option<(u64, u64)>,
 }
 
-pub(super) fn headers<R: std::io::Read>(
-    rdr: &mut csv::Reader<R>,
-    file: &str,
-) -> Result<Vec<String>, DataError> {
-    let headers: Vec<String> = match rdr.byte_headers() {
-        Ok(h) => h
-            .iter()
-            .map(|f| String::from_utf8_lossy(f).trim().to_string())
-            .collect(),
-        Err(e) => return Err(input::csv_error(file, e)),
-    };
-    if headers.is_empty() || (headers.len() == 1 && headers[0].is_empty()) {
-        return Err(DataError::Empty {
-            file: file.to_string(),
-        });
-    }
-    Ok(headers)
-}
-
 /// A team or group name: trimmed, non-empty UTF-8 without control characters.
 pub(super) fn name(bytes: &[u8]) -> Result<String, String> {
     let text =
@@ -131,7 +112,7 @@ pub(super) fn open_csv(
     let mut rdr = csv::ReaderBuilder::new()
         .flexible(false)
         .from_reader(reader);
-    let headers = headers(&mut rdr, &file)?;
+    let headers = input::read_headers(&mut rdr, &file)?;
     let map = roles::resolve(&file, &headers, specs, maps)?;
     Ok((file, rdr, map))
 }
