@@ -10,7 +10,7 @@ use std::io::Read;
 
 use crate::data::gamelog::Date;
 use crate::error::Error;
-use crate::luck::{LuckLine, Noise, NoiseSource, Outlook};
+use crate::luck::LuckLine;
 use crate::model::Model;
 
 /// Days between the two dates when no comparison date is given.
@@ -49,11 +49,15 @@ pub struct SourceFile {
 #[derive(Debug, Clone, PartialEq)]
 pub struct Snapshot {
     pub as_of: Date,
+    /// The date of the last game counted.
+    pub last_played: Option<Date>,
     pub rows_used: usize,
     pub rows_rejected: usize,
-    /// The luck z's noise model and what the projection used.
-    pub noise: Noise,
-    pub outlook: Option<Outlook>,
+    pub ranked: crate::luck::Ranked,
+    /// The luck z's noise model and what the projection used, with their notes and warnings.
+    pub settings: crate::applied::LuckSettings,
+    /// How far these data sit from the profile's run environment (empty when it suits them).
+    pub mismatch: Vec<String>,
     pub lines: Vec<LuckLine>,
 }
 
@@ -304,49 +308,33 @@ pub fn assemble(
     }
 }
 
-/// The luck lines as of one date, exactly as `runcal luck --profile … --as-of` computes them with no
-/// other option: the profile's dispersion (else one measured on these rows), its season length and
-/// run-based regression constant (else (1 − φ)·k with k estimated on these rows).
+/// The luck lines and their settings at one date, under the profile, with the precedence of
+/// `runcal luck` ([`crate::applied::luck_settings`]) and no overrides.
 pub fn snapshot(
     ds: &crate::data::Dataset,
     table: &crate::data::Table,
     profile: &crate::profile::Profile,
     as_of: Date,
 ) -> Result<Snapshot, Error> {
-    let model = profile.model();
-    let noise = match profile.dispersion {
-        Some(d) => Noise::new(Some(d), NoiseSource::Profile),
-        None => {
-            let lines = crate::luck::team_lines(&ds.rows, table, &model);
-            Noise::new(
-                crate::luck::pearson_dispersion(&lines, 0),
-                NoiseSource::DataUnfitted,
-            )
-        }
-    };
-    let k = profile.run_based_regression_games().or_else(|| {
-        let k = crate::luck::regression_games(table)?;
-        crate::luck::run_based_regression_games(k, noise.dispersion).or(Some(k))
-    });
-    let k = k.ok_or_else(|| {
-        Error::Usage(
-            "cannot estimate the regression toward .500 from these data (win% spread no larger than chance)"
-                .to_string(),
-        )
-    })?;
-    let outlook = Outlook {
-        season_games: profile.season_games,
-        regression_games: k,
-        dispersion: noise.dispersion,
-        level: crate::luck::RANGE_LEVEL,
-    };
+    let chosen = crate::applied::choose_model(Some((profile, "")), None, profile.model, table)?;
+    let over = crate::applied::Overrides::default();
+    let settings = crate::applied::luck_settings(&chosen, Some(profile), &over, &ds.rows, table)?;
     Ok(Snapshot {
         as_of,
+        last_played: ds.last_played,
         rows_used: ds.rows.len(),
         rows_rejected: ds.rejected.len(),
-        lines: crate::luck::luck_lines(&ds.rows, table, &model, &noise, Some(&outlook), None),
-        noise,
-        outlook: Some(outlook),
+        ranked: crate::luck::Ranked::over(&ds.rows),
+        mismatch: crate::applied::environment_mismatch(profile, &ds.rows, None),
+        lines: crate::luck::luck_lines(
+            &ds.rows,
+            table,
+            &chosen.model,
+            &settings.noise,
+            settings.outlook.as_ref(),
+            None,
+        ),
+        settings,
     })
 }
 

@@ -5,6 +5,7 @@
 //! model predicts best out of sample, and ranks teams whose record runs ahead of or behind their
 //! scoring. The binary `runcal` is a thin driver over this library.
 
+pub mod applied;
 pub mod balance;
 pub mod data;
 pub mod digest;

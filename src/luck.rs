@@ -202,6 +202,28 @@ pub fn luck_lines(
     out
 }
 
+/// What every team-season of a ranking shares, before `--top` keeps its extremes: a heading may
+/// state a season or a league once only when the whole ranking has it.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct Ranked {
+    pub team_seasons: usize,
+    pub one_season: bool,
+    pub one_league: bool,
+}
+
+impl Ranked {
+    pub fn over(rows: &[TeamSeason]) -> Ranked {
+        let first = rows.first();
+        Ranked {
+            team_seasons: rows.len(),
+            one_season: rows.iter().all(|r| Some(r.season) == first.map(|f| f.season)),
+            one_league: rows
+                .iter()
+                .all(|r| Some(&r.league) == first.map(|f| &f.league)),
+        }
+    }
+}
+
 /// Nominal level of the projection's range of final wins.
 pub const PROJECTION_LEVEL: f64 = RANGE_LEVEL;
 

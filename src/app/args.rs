@@ -183,6 +183,15 @@ impl BootstrapArgs {
     }
 }
 
+/// What to do when a saved calibration is applied to data far from its run environment.
+#[derive(Debug, Clone, Copy, Args)]
+pub struct EnvironmentArgs {
+    /// Fail (exit 2) instead of warning when the data's runs per game or season length sit far
+    /// (a factor of 1.5) from the profile's, for CI jobs that must not apply the wrong calibration.
+    #[arg(long = "fail-on-mismatch", requires = "profile")]
+    pub fail: bool,
+}
+
 /// Where and how results are written.
 #[derive(Debug, Clone, Args)]
 pub struct OutputArgs {

@@ -152,6 +152,8 @@ pub struct Dataset {
     pub unplayed_games: u64,
     /// Of `unplayed_games`, the games dated after `--as-of`.
     pub after_as_of: u64,
+    /// Game logs: the date of the last game counted.
+    pub last_played: Option<gamelog::Date>,
 }
 
 impl Dataset {

@@ -4,10 +4,12 @@
 
 use serde::Serialize;
 
+use super::ModelSource;
+
 use super::Grid;
 use super::json::{Num, Pair, named, to_bytes};
 use super::table::grid_table;
-use super::{LuckReport, ModelSource, csv as csvfmt, num, pct, record, signed};
+use super::{LuckReport, csv as csvfmt, num, pct, record, signed};
 use crate::error::Error;
 use crate::luck::{Family, LuckLine, NOTABLE_Z, Noise, Signal};
 
@@ -115,26 +117,36 @@ pub fn grid(r: &LuckReport) -> Grid {
         header: Grid::names(&header),
         rows,
         text: Grid::names(&["season", "league", "team", "\nreading"]),
-        fold: Grid::names(&["season", "league"]),
+        // A heading states a season or league only when the whole ranking shares it.
+        fold: [("season", r.ranked.one_season), ("league", r.ranked.one_league)]
+            .iter()
+            .filter(|(_, alike)| *alike)
+            .map(|(name, _)| name.to_string())
+            .collect(),
     }
 }
 
 fn heading(r: &LuckReport) -> String {
-    let source = match &r.source {
-        ModelSource::Profile(p) => format!("calibration from {p}"),
-        ModelSource::Fitted => "fitted on these data (no --profile)".to_string(),
-        ModelSource::Given => "given with --exponent".to_string(),
+    let shown = if r.teams.len() < r.ranked.team_seasons {
+        format!("{} of {} team-seasons shown", r.teams.len(), r.ranked.team_seasons)
+    } else {
+        super::count(r.ranked.team_seasons, "team-season", "team-seasons")
     };
     let mut out = format!(
-        "runcal luck: {} teams, {} rejected; {} ({source})",
-        r.rows_used,
+        "runcal luck: {shown}, {} rejected; {}; {}",
         r.rows_rejected,
-        super::table::model_label(&r.model)
+        super::table::model_label(&r.model),
+        r.source.describe()
     );
-    if let Some(d) = r.as_of {
-        out.push_str(&format!("; games through {d}"));
+    if let Some(cut) = super::games_through(r.last_played, r.as_of) {
+        out.push_str(&format!("; {cut}"));
     }
     out.push('\n');
+    if let Some(n) = r.finished {
+        out.push_str(&format!(
+            "season complete: every team has played its {n} games; final records, no projection\n"
+        ));
+    }
     out
 }
 
@@ -382,6 +394,7 @@ pub fn luck_json(r: &LuckReport) -> LuckJson<'_> {
             ModelSource::Profile(p) => SourceJson::Profile { profile: p },
             ModelSource::Fitted => SourceJson::Named("fitted"),
             ModelSource::Given => SourceJson::Named("given"),
+            ModelSource::Published => SourceJson::Named("published"),
         },
         rows_used: r.rows_used,
         rows_rejected: r.rows_rejected,

@@ -44,6 +44,29 @@ pub fn render(report: &dyn Report, format: Format) -> Result<Vec<u8>, Error> {
 pub use crate::luck::TeamLine;
 pub use grid::Grid;
 
+/// "1 team-season", "60 team-seasons".
+pub fn count(n: usize, one: &str, many: &str) -> String {
+    if n == 1 {
+        format!("1 {one}")
+    } else {
+        format!("{n} {many}")
+    }
+}
+
+/// How far the games run: "games through 2026-08-18 (as of 2026-09-30)" when the last game counted
+/// is earlier than the cut asked for, "games through 2026-08-18" otherwise; `None` with neither.
+pub fn games_through(
+    last_played: Option<crate::data::gamelog::Date>,
+    as_of: Option<crate::data::gamelog::Date>,
+) -> Option<String> {
+    match (last_played, as_of) {
+        (Some(l), Some(a)) if l < a => Some(format!("games through {l} (as of {a})")),
+        (Some(l), _) => Some(format!("games through {l}")),
+        (None, Some(a)) => Some(format!("no games on or before {a}")),
+        (None, None) => None,
+    }
+}
+
 /// Records as "W-L" or "W-L-T".
 pub fn record(w: u64, l: u64, t: u64) -> String {
     if t > 0 {
@@ -107,14 +130,7 @@ impl Report for FitReport {
     }
 }
 
-/// Where the luck report's model came from.
-#[derive(Debug, Clone, PartialEq)]
-pub enum ModelSource {
-    Profile(String),
-    Fitted,
-    /// Given on the command line (`--exponent`).
-    Given,
-}
+pub use crate::applied::ModelSource;
 
 /// The result of `runcal luck`.
 #[derive(Debug, Clone)]
@@ -124,6 +140,12 @@ pub struct LuckReport {
     pub rows_used: usize,
     pub rows_rejected: usize,
     pub as_of: Option<crate::data::gamelog::Date>,
+    /// The date of the last game counted (game logs).
+    pub last_played: Option<crate::data::gamelog::Date>,
+    /// Set when the season is over: the season length every team has played.
+    pub finished: Option<u64>,
+    /// What the whole ranking shares, before `--top` kept its extremes.
+    pub ranked: crate::luck::Ranked,
     /// The luck z's noise model.
     pub noise: crate::luck::Noise,
     /// Season length, run-based regression constant and range level of the projections.

@@ -39,11 +39,7 @@ impl Frame {
         source: &super::ModelSource,
         as_of: Option<crate::data::gamelog::Date>,
     ) -> Frame {
-        let source = match source {
-            super::ModelSource::Profile(p) => format!("calibration {p}"),
-            super::ModelSource::Fitted => "fitted on these data".to_string(),
-            super::ModelSource::Given => "given exponent".to_string(),
-        };
+        let source = source.short();
         Frame {
             title: match as_of {
                 Some(d) => format!("Wins against scoring, games through {d}"),

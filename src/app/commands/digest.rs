@@ -51,6 +51,10 @@ pub struct Args {
     /// Go on past bad rows: list each on stderr and count it as rejected.
     #[arg(long)]
     pub skip_invalid: bool,
+    /// Fail (exit 2) instead of warning when the log's runs per game sit far (a factor of 1.5) from
+    /// the profile's.
+    #[arg(long)]
+    pub fail_on_mismatch: bool,
     /// Print no warnings on stderr.
     #[arg(long, short = 'q')]
     pub quiet: bool,
@@ -169,9 +173,6 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     super::guard_outputs(&outputs, &inputs)?;
 
     let profile = Profile::load(&args.profile)?;
-    if profile.dispersion.is_none() {
-        diag.warn("the profile saves no dispersion (a log-loss fit saves one); luck z uses one measured on the game log");
-    }
     let input = input_of(args, &profile);
     let snapshot = |date: Date, diag: &Diagnostics| -> Result<Option<digest::Snapshot>, Error> {
         let (ds, table) = super::load_any(&input, Some(date), diag)?;
@@ -184,6 +185,8 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         let files = args.files.join(", ");
         Error::Usage(format!("no games on or before {} in {files}", args.as_of))
     })?;
+    super::mismatch(&current.mismatch, args.fail_on_mismatch, &diag)?;
+    super::say(&diag, &current.settings.notes, &current.settings.warnings);
     // The earlier date's rows are a subset of these: its rejections were reported just now.
     let quiet = Diagnostics {
         quiet: true,

@@ -1,9 +1,10 @@
 //! `runcal luck`: the weekly report of teams ahead of or behind their scoring, with projections.
 
-use crate::app::args::{InputArgs, OutputArgs, positive};
+use crate::app::args::{EnvironmentArgs, InputArgs, OutputArgs, positive};
 use crate::app::values;
 use runcal::data::gamelog::Date;
 use runcal::error::Error;
+use runcal::applied;
 use runcal::luck;
 use runcal::profile::Profile;
 use runcal::report::LuckReport;
@@ -54,6 +55,8 @@ pub struct Args {
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<String>,
     #[command(flatten)]
+    pub environment: EnvironmentArgs,
+    #[command(flatten)]
     pub output: OutputArgs,
 }
 
@@ -75,49 +78,43 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         None => args.input.clone(),
     };
     let (ds, table) = super::load(&input, args.as_of, &diag)?;
-    let (model, source, fitted) = super::choose_model(
+    let chosen = applied::choose_model(
         profile.as_ref().zip(args.profile.as_deref()),
         args.exponent,
-        &args.model,
+        super::first_model(&args.model)?,
         &table,
-        &diag,
     )?;
-    let noise = noise_model(args, profile.as_ref(), fitted, &ds, &table, &model, &diag)?;
-    let season_games = args
-        .season_games
-        .or(profile.as_ref().map(|p| p.season_games));
-    let k = args.regress_games.or_else(|| {
-        profile
-            .as_ref()
-            .and_then(Profile::run_based_regression_games)
-            .or_else(|| {
-                let k = luck::regression_games(&table)?;
-                luck::run_based_regression_games(k, noise.dispersion).or(Some(k))
-            })
-    });
-    let outlook = match (season_games, k) {
-        (Some(season_games), Some(k)) => Some(luck::Outlook {
-            season_games,
-            regression_games: k,
-            dispersion: noise.dispersion,
-            level: luck::RANGE_LEVEL,
-        }),
-        (Some(_), None) => {
-            return Err(Error::Usage(
-                "cannot estimate the regression toward .500 from these data (win% spread no larger than chance); pass --regress-games K".to_string(),
-            ));
-        }
-        (None, _) => None,
+    super::say(&diag, &chosen.notes, &chosen.warnings);
+    let over = applied::Overrides {
+        dispersion: args.dispersion,
+        regress_games: args.regress_games,
+        season_games: args.season_games,
     };
-    let lines = luck::luck_lines(&ds.rows, &table, &model, &noise, outlook.as_ref(), args.top);
+    if let Some(p) = &profile {
+        let found = applied::environment_mismatch(p, &ds.rows, args.season_games);
+        super::mismatch(&found, args.environment.fail, &diag)?;
+    }
+    let settings = applied::luck_settings(&chosen, profile.as_ref(), &over, &ds.rows, &table)?;
+    super::say(&diag, &settings.notes, &settings.warnings);
+    let lines = luck::luck_lines(
+        &ds.rows,
+        &table,
+        &chosen.model,
+        &settings.noise,
+        settings.outlook.as_ref(),
+        args.top,
+    );
     let report = LuckReport {
-        model,
-        source,
+        model: chosen.model,
+        source: chosen.source,
         rows_used: ds.rows.len(),
         rows_rejected: ds.rejected.len(),
         as_of: args.as_of,
-        noise,
-        outlook,
+        last_played: ds.last_played,
+        finished: settings.finished,
+        ranked: luck::Ranked::over(&ds.rows),
+        noise: settings.noise,
+        outlook: settings.outlook,
         chart_labels: args
             .plot
             .is_some()
@@ -127,42 +124,4 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     super::emit(&report, &args.output, files)?;
     Ok(0)
-}
-
-/// The dispersion behind the luck z: --dispersion, the profile's, the fit's, or measured on these
-/// data under the model applied (a profile without one is said so on stderr).
-fn noise_model(
-    args: &Args,
-    profile: Option<&Profile>,
-    fitted: Option<Option<f64>>,
-    ds: &runcal::data::Dataset,
-    table: &runcal::data::Table,
-    model: &runcal::model::Model,
-    diag: &runcal::output::Diagnostics,
-) -> Result<luck::Noise, Error> {
-    use luck::{Noise, NoiseSource};
-    if let Some(d) = args.dispersion {
-        return Ok(Noise::new(Some(d), NoiseSource::Given));
-    }
-    if let Some(d) = profile.and_then(|p| p.dispersion) {
-        return Ok(Noise::new(Some(d), NoiseSource::Profile));
-    }
-    if let Some(Some(d)) = fitted {
-        return Ok(Noise::new(Some(d), NoiseSource::Data));
-    }
-    // Fitted here without standard errors: its parameters cost degrees of freedom.
-    let (fitted_params, source) = match fitted {
-        Some(_) => (model.params.len(), NoiseSource::Data),
-        None => (0, NoiseSource::DataUnfitted),
-    };
-    let lines = luck::team_lines(&ds.rows, table, model);
-    let noise = Noise::new(luck::pearson_dispersion(&lines, fitted_params), source);
-    if profile.is_some() {
-        diag.warn(&format!(
-            "the profile saves no dispersion (a log-loss fit saves one); luck z uses {} noise {}",
-            noise.model,
-            noise.source.describe()
-        ));
-    }
-    Ok(noise)
 }

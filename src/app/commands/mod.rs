@@ -136,53 +136,28 @@ pub fn guard_outputs(outputs: &[(&str, Option<&String>)], reads: &[String]) -> R
     runcal::output::check_outputs(&outputs, &reads)
 }
 
-/// The model to apply, with the same precedence everywhere: a saved calibration, else `--exponent`,
-/// else the first of `--model` fitted by log-loss on the data at hand. The third value is the fit's
-/// measured dispersion when the model was fitted here (`Some(None)`: fitted, no dispersion).
-pub fn choose_model(
-    profile: Option<(&runcal::profile::Profile, &str)>,
-    exponent: Option<f64>,
-    models: &str,
-    table: &Table,
-    diag: &Diagnostics,
-) -> Result<
-    (
-        runcal::model::Model,
-        report::ModelSource,
-        Option<Option<f64>>,
-    ),
-    Error,
-> {
-    use runcal::model::{Model, ModelKind};
-    if let Some((p, path)) = profile {
-        return Ok((
-            p.model(),
-            report::ModelSource::Profile(path.to_string()),
-            None,
-        ));
+/// Print a core step's notes and warnings.
+pub fn say(diag: &Diagnostics, notes: &[String], warnings: &[String]) {
+    notes.iter().for_each(|n| diag.note(n));
+    warnings.iter().for_each(|w| diag.warn(w));
+}
+
+/// Warn about a calibration applied far from its run environment, or fail with `--fail-on-mismatch`.
+pub fn mismatch(found: &[String], fail: bool, diag: &Diagnostics) -> Result<(), Error> {
+    if fail && !found.is_empty() {
+        return Err(Error::Usage(format!(
+            "{} (--fail-on-mismatch)",
+            found.join("; ")
+        )));
     }
-    if let Some(x) = exponent {
-        if !(x.is_finite() && x > 0.0) {
-            return Err(Error::Usage(format!(
-                "--exponent must be a positive number, got {x}"
-            )));
-        }
-        return Ok((
-            Model::new(ModelKind::Pythagorean, vec![x]),
-            report::ModelSource::Given,
-            None,
-        ));
-    }
-    let kind = *parse_models(models)?
+    found.iter().for_each(|w| diag.warn(w));
+    Ok(())
+}
+
+/// The first model `--model` names.
+pub fn first_model(models: &str) -> Result<ModelKind, Error> {
+    parse_models(models)?
         .first()
-        .ok_or_else(|| Error::Usage("--model names no model".to_string()))?;
-    let f = runcal::fit::fit_model(table, kind, runcal::fit::Loss::Logloss)?;
-    diag.note(&format!(
-        "no --profile: fitted {} on these {} team-seasons ({})",
-        kind,
-        table.len(),
-        report::table::params(&f)
-    ));
-    let phi = f.std_errors.as_ref().map(|s| s.dispersion);
-    Ok((f.model, report::ModelSource::Fitted, Some(phi)))
+        .copied()
+        .ok_or_else(|| Error::Usage("--model names no model".to_string()))
 }

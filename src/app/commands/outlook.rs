@@ -1,6 +1,6 @@
 //! `runcal outlook`: where each club finishes, given who it still has to play.
 
-use crate::app::args::{InputArgs, OutputArgs};
+use crate::app::args::{EnvironmentArgs, InputArgs, OutputArgs};
 use runcal::data::gamelog::Date;
 use runcal::data::schedule;
 use runcal::error::Error;
@@ -66,6 +66,8 @@ pub struct Args {
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<String>,
     #[command(flatten)]
+    pub environment: EnvironmentArgs,
+    #[command(flatten)]
     pub output: OutputArgs,
 }
 
@@ -105,13 +107,18 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         .as_deref()
         .map(|p| schedule::read_groups(p, &opts).map(|g| (p, g)))
         .transpose()?;
-    let (model, source, _) = super::choose_model(
+    let chosen = runcal::applied::choose_model(
         profile.as_ref().zip(args.profile.as_deref()),
         args.exponent,
-        &args.model,
+        super::first_model(&args.model)?,
         &table,
-        &diag,
     )?;
+    super::say(&diag, &chosen.notes, &chosen.warnings);
+    if let Some(p) = &profile {
+        let found = runcal::applied::environment_mismatch(p, &ds.rows, None);
+        super::mismatch(&found, args.environment.fail, &diag)?;
+    }
+    let (model, source) = (chosen.model, chosen.source);
     let (league, groups_from) = league::league(
         &ds.rows,
         &table,

@@ -21,6 +21,8 @@ pub(super) struct FileTotals {
     /// Games with both scores empty, and games dated after `--as-of`.
     pub unplayed: u64,
     pub after_as_of: u64,
+    /// The date of the last game counted.
+    pub last_played: Option<super::Date>,
     /// Warnings of the reader (text after a closing quote).
     pub warnings: Vec<String>,
 }
@@ -202,6 +204,8 @@ fn sum_records(
             {
                 let reason = "the season's run totals grow too large to count".to_string();
                 reject(&mut totals, rows.fail(line, super::HOME_SCORE, reason))?;
+            } else {
+                totals.last_played = totals.last_played.max(Some(game.date));
             }
         }
         if let Some(e) = batch.fatal.take() {

@@ -158,6 +158,7 @@ fn load_holding(
         ds.filtered_by_league += totals.outside_league;
         ds.unplayed_games += totals.unplayed;
         ds.after_as_of += totals.after_as_of;
+        ds.last_played = ds.last_played.max(totals.last_played);
         ds.rejected.extend(totals.rejected);
         ds.warnings.extend(totals.warnings);
         standings.merge(totals.records, file_no, files)?;

@@ -91,12 +91,12 @@ fn calibration_facts(d: &Digest) -> Vec<(&'static str, String)> {
         "noise model",
         format!(
             "{}, dispersion {} ({})",
-            d.current.noise.model,
-            num(d.current.noise.dispersion, 3),
-            d.current.noise.source.describe()
+            d.current.settings.noise.model,
+            num(d.current.settings.noise.dispersion, 3),
+            d.current.settings.noise.source.describe()
         ),
     ));
-    if let Some(o) = d.current.outlook {
+    if let Some(o) = d.current.settings.outlook {
         facts.push((
             "regression toward .500",
             format!(
@@ -353,8 +353,11 @@ fn luck_report(d: &Digest, s: &crate::digest::Snapshot) -> super::LuckReport {
         rows_used: s.rows_used,
         rows_rejected: s.rows_rejected,
         as_of: Some(s.as_of),
-        noise: s.noise,
-        outlook: s.outlook,
+        last_played: s.last_played,
+        finished: s.settings.finished,
+        ranked: s.ranked,
+        noise: s.settings.noise,
+        outlook: s.settings.outlook,
         teams: s.lines.clone(),
         chart_labels: None,
     }

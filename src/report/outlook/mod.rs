@@ -61,19 +61,18 @@ impl OutlookReport {
 
     /// "2026 season, games through 2026-07-15" (or "to date").
     pub fn cut(&self) -> String {
-        match self.as_of.or(self.last_played) {
-            Some(d) => format!("{} season, games through {d}", self.season),
-            None => format!("{} season, before its first game", self.season),
+        match (self.last_played, self.as_of) {
+            (None, Some(a)) => format!("{} season, before its first game (as of {a})", self.season),
+            (l, a) => match super::games_through(l, a) {
+                Some(cut) => format!("{} season, {cut}", self.season),
+                None => format!("{} season, before its first game", self.season),
+            },
         }
     }
 }
 
 pub(crate) fn source_text(s: &ModelSource) -> String {
-    match s {
-        ModelSource::Profile(p) => format!("calibration from {p}"),
-        ModelSource::Fitted => "fitted on these data (no --profile)".to_string(),
-        ModelSource::Given => "given with --exponent".to_string(),
-    }
+    s.describe()
 }
 
 fn shrinkage_text(o: &Outlook) -> String {
@@ -284,7 +283,7 @@ pub fn json(r: &OutlookReport) -> Value {
         "last_played": r.last_played.map(|d| d.to_string()),
         "model": r.model.kind.name(),
         "params": super::json::params_of(&r.model),
-        "source": match &r.source { ModelSource::Profile(p) => json!({"profile": p}), ModelSource::Fitted => json!("fitted"), ModelSource::Given => json!("given") },
+        "source": match &r.source { ModelSource::Profile(p) => json!({"profile": p}), ModelSource::Fitted => json!("fitted"), ModelSource::Published => json!("published"), ModelSource::Given => json!("given") },
         "rows_used": r.rows_used,
         "rows_rejected": r.rows_rejected,
         "simulations": o.settings.simulations,
