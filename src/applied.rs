@@ -4,7 +4,7 @@
 //! luck z's noise, the projection's settings, and the checks that the calibration suits the data.
 
 use crate::data::{Table, TeamSeason};
-use crate::error::Error;
+use crate::error::{Error, FitError};
 use crate::fit::{self, Loss};
 use crate::luck::{self, Noise, NoiseSource, Outlook};
 use crate::model::{Model, ModelKind};
@@ -29,7 +29,7 @@ impl ModelSource {
         match self {
             ModelSource::Profile(p) => format!("calibration from {p}"),
             ModelSource::Fitted => {
-                "fitted on these games alone, no --profile; a profile fitted on past seasons is steadier"
+                "fitted on these data alone, no --profile; a profile fitted on past seasons is steadier"
                     .to_string()
             }
             ModelSource::Given => "given with --exponent".to_string(),
@@ -43,7 +43,7 @@ impl ModelSource {
     pub fn short(&self) -> String {
         match self {
             ModelSource::Profile(p) => format!("calibration {p}"),
-            ModelSource::Fitted => "fitted on these games, no profile".to_string(),
+            ModelSource::Fitted => "fitted on these data, no profile".to_string(),
             ModelSource::Given => "given exponent".to_string(),
             ModelSource::Published => "published PythagenPat, no profile".to_string(),
         }
@@ -104,25 +104,36 @@ pub fn choose_model(
             ModelSource::Given,
         ));
     }
-    let f = fit::fit_model(table, kind, Loss::Logloss)?;
+    let rpg = table.runs_total / table.games.iter().sum::<f64>().max(1.0);
+    let fitted_on = format!("{} team-seasons", table.len());
+    let published = |why: String| {
+        let mut c = chosen(
+            Model::new(ModelKind::Pythagenpat, vec![PUBLISHED_Z]),
+            ModelSource::Published,
+        );
+        c.warnings.push(format!(
+            "no --profile, and {kind} fitted on these {fitted_on} {why}: applying the published PythagenPat z {PUBLISHED_Z} instead; save a profile from past seasons with `runcal fit --save-profile`"
+        ));
+        c
+    };
+    let f = match fit::fit_model(table, kind, Loss::Logloss) {
+        Ok(f) => f,
+        // Too few games (every club unbeaten or winless, say) leave no interior optimum.
+        Err(e @ (FitError::NoMinimum { .. } | FitError::Solver { .. }))
+            if rpg <= FALLBACK_MAX_RPG && table.len() > 0 =>
+        {
+            return Ok(published(format!("has no estimate ({e})")));
+        }
+        Err(e) => return Err(e.into()),
+    };
     let params = describe_params(&f.model);
     let relative_se = f
         .std_errors
         .as_ref()
         .and_then(|s| Some(s.corrected.first()? / f.model.params.first()?.abs()));
     let unstable = !relative_se.is_some_and(|r| r.is_finite() && r <= MAX_RELATIVE_SE);
-    let rpg = table.runs_total / table.games.iter().sum::<f64>().max(1.0);
-    let fitted_on = format!("{} team-seasons", table.len());
     if unstable && rpg <= FALLBACK_MAX_RPG {
-        let mut c = chosen(
-            Model::new(ModelKind::Pythagenpat, vec![PUBLISHED_Z]),
-            ModelSource::Published,
-        );
-        c.warnings.push(format!(
-            "no --profile, and {kind} fitted on these {fitted_on} ({params}) {}: applying the published PythagenPat z {PUBLISHED_Z} instead; save a profile from past seasons with `runcal fit --save-profile`",
-            instability(relative_se)
-        ));
-        return Ok(c);
+        return Ok(published(format!("({params}) {}", instability(relative_se))));
     }
     let mut c = chosen(f.model.clone(), ModelSource::Fitted);
     c.fitted_dispersion = Some(f.std_errors.as_ref().map(|s| s.dispersion));

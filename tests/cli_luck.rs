@@ -431,3 +431,184 @@ fn luck_plot_is_an_svg_with_labelled_extremes() {
     // The caution is the chart's footnote.
     assert!(text.contains("runcal reports descriptive statistics."));
 }
+
+// ---- guards on the applied calibration (issue: everyday use) ----
+
+const DEMO_GAMES: &str = "demo-data/meridian-2026-games.csv";
+const DEMO_PROFILE: &str = "demo-data/meridian-profile.json";
+
+#[test]
+fn a_finished_season_shows_final_records_and_no_projection() {
+    // The demo log's last game is 18 August; every club has played its 140 games by then.
+    let out = runcal()
+        .args(["luck", "--games", DEMO_GAMES, "--profile", DEMO_PROFILE])
+        .args(["--as-of", "2026-12-01"])
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let stdout = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        stdout.contains("games through 2026-08-18 (as of 2026-12-01)"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("season complete"), "{stdout}");
+    assert!(!stdout.contains("final wins"), "{stdout}");
+    let v = json(
+        runcal()
+            .args(["luck", "--games", DEMO_GAMES, "--profile", DEMO_PROFILE])
+            .args(["--as-of", "2026-12-01", "--format", "json", "-q"]),
+    );
+    assert_eq!(v["season_complete"], true);
+    assert_eq!(v["games_through"], "2026-08-18");
+    assert!(v["outlook"].is_null());
+    assert!(v["teams"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .all(|t| t["outlook"].is_null() && t["evidence"]["games"] == 140));
+}
+
+#[test]
+fn season_games_below_games_played_is_an_error() {
+    let err = runcal()
+        .args(["luck", "--games", DEMO_GAMES, "--profile", DEMO_PROFILE])
+        .args(["--as-of", "2026-06-01", "--season-games", "30"])
+        .assert()
+        .code(2)
+        .get_output()
+        .stderr
+        .clone();
+    let err = String::from_utf8(err).unwrap();
+    assert!(
+        err.contains("--season-games 30 is smaller than the 62 games"),
+        "{err}"
+    );
+}
+
+/// A basketball-like log (about 200 points a game) against the demo's baseball-like profile.
+fn high_scoring_log(dir: &std::path::Path) -> std::path::PathBuf {
+    let mut s = String::from("date,home,away,home_score,away_score\n");
+    let clubs = ["Aster", "Birch", "Cedar", "Dogwood"];
+    let mut day = 1;
+    for round in 0..4u32 {
+        for (i, h) in clubs.iter().enumerate() {
+            for (j, a) in clubs.iter().enumerate() {
+                if i != j {
+                    let hs = 100 + (i as u32 * 7 + round * 3) % 17;
+                    let aw = 98 + (j as u32 * 5 + round * 11) % 19;
+                    s.push_str(&format!("2026-01-{day:02},{h},{a},{hs},{aw}\n"));
+                }
+            }
+        }
+        day += 1;
+    }
+    let p = dir.join("hoops.csv");
+    std::fs::write(&p, s).unwrap();
+    p
+}
+
+#[test]
+fn a_profile_far_from_the_data_warns_and_fails_on_request() {
+    let dir = tempfile::tempdir().unwrap();
+    let log = high_scoring_log(dir.path());
+    let out = runcal()
+        .args(["luck", "--games", "--profile", DEMO_PROFILE])
+        .arg(&log)
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let err = String::from_utf8(out.stderr).unwrap();
+    // Both run environments are named: the data's and the profile's 9.2.
+    assert!(err.contains("warning:") && err.contains("9.2"), "{err}");
+    let out = runcal()
+        .args(["luck", "--games", "--profile", DEMO_PROFILE, "--fail-on-mismatch"])
+        .arg(&log)
+        .assert()
+        .failure()
+        .get_output()
+        .clone();
+    assert!(out.stdout.is_empty(), "no report when failing");
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert!(err.contains("9.2"), "{err}");
+    // --fail-on-mismatch only means something against a profile.
+    runcal()
+        .args(["luck", "--games", "--fail-on-mismatch"])
+        .arg(&log)
+        .assert()
+        .code(2);
+}
+
+#[test]
+fn a_partial_season_too_short_to_fit_falls_back_to_the_published_exponent() {
+    // One game per club on opening day: no exponent can be fitted with any precision.
+    let out = runcal()
+        .args(["luck", "--games", DEMO_GAMES, "--as-of", "2026-04-01"])
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let stdout = String::from_utf8(out.stdout).unwrap();
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert!(stdout.lines().next().unwrap().contains("published"), "{stdout}");
+    assert!(err.contains("published PythagenPat"), "{err}");
+    let v = json(
+        runcal()
+            .args(["luck", "--games", DEMO_GAMES, "--as-of", "2026-04-01"])
+            .args(["--format", "json", "-q"]),
+    );
+    assert_eq!(v["model"], "pythagenpat");
+    assert_eq!(v["source"], "published");
+    // The PythagenPat z as commonly quoted (0.287; see README Methods for its source).
+    assert!((f(&v["params"]["z"]) - 0.287).abs() < 1e-12);
+}
+
+#[test]
+fn without_a_profile_the_heading_says_the_fit_is_on_the_data_at_hand() {
+    let out = runcal()
+        .args(["luck", "--games", DEMO_GAMES, "--as-of", "2026-06-01"])
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let first = String::from_utf8(out.stdout).unwrap();
+    let first = first.lines().next().unwrap().to_string();
+    assert!(first.contains("fitted on these data alone, no --profile"), "{first}");
+    assert!(first.contains("games through 2026-06-01"), "{first}");
+}
+
+#[test]
+fn constant_columns_are_hoisted_only_when_the_shown_rows_share_them() {
+    let mut maps = Vec::new();
+    for m in common::DATABANK_MAPS {
+        maps.extend(["--map", m]);
+    }
+    // 2019-2020, both leagues: neither season nor league is constant over the ranking.
+    let out = runcal()
+        .arg("luck")
+        .args(&maps)
+        .args(["--seasons", "2019-2020", "--top", "2", "-q"])
+        .arg(common::databank_path())
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let stdout = String::from_utf8(out.stdout).unwrap();
+    assert!(!stdout.contains("season: "), "{stdout}");
+    assert!(!stdout.contains("league: "), "{stdout}");
+    assert!(stdout.contains("4 of 60 team-seasons shown"), "{stdout}");
+    // One season of one league: both are hoisted above the table.
+    let out = runcal()
+        .arg("luck")
+        .args(&maps)
+        .args(["--seasons", "2019", "--league", "AL", "--top", "2", "-q"])
+        .arg(common::databank_path())
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let stdout = String::from_utf8(out.stdout).unwrap();
+    assert!(stdout.contains("season: 2019"), "{stdout}");
+    assert!(stdout.contains("league: AL"), "{stdout}");
+}

@@ -333,6 +333,10 @@ pub struct LuckJson<'a> {
     rows_used: usize,
     rows_rejected: usize,
     as_of: Option<String>,
+    /// Date of the last game counted (game logs only).
+    games_through: Option<String>,
+    /// Every team has played the season's games: final records, no projection.
+    season_complete: bool,
     noise: Noise,
     multiplicity: Family,
     signal_z: f64,
@@ -399,6 +403,8 @@ pub fn luck_json(r: &LuckReport) -> LuckJson<'_> {
         rows_used: r.rows_used,
         rows_rejected: r.rows_rejected,
         as_of: r.as_of.map(|d| d.to_string()),
+        games_through: r.last_played.map(|d| d.to_string()),
+        season_complete: r.finished.is_some(),
         noise: r.noise,
         multiplicity: Family::over(&r.teams),
         signal_z: NOTABLE_Z,
