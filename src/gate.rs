@@ -136,7 +136,10 @@ pub fn joint_drift(
 pub fn verdict(rules: &[Rule]) -> String {
     let failed: Vec<&Rule> = rules.iter().filter(|r| !r.passed).collect();
     if failed.is_empty() {
-        return format!("PASSED: all {} rules hold", rules.len());
+        return match rules.len() {
+            1 => "PASSED: the one rule holds".to_string(),
+            n => format!("PASSED: all {n} rules hold"),
+        };
     }
     let parts: Vec<String> = failed
         .iter()

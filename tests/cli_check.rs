@@ -522,3 +522,56 @@ fn pythagenport_drift_is_tested_jointly_and_an_old_profile_falls_back_to_one_at_
         .collect();
     assert_eq!(names, ["max_drift:a", "max_drift:b"]);
 }
+
+#[test]
+fn a_single_rule_gate_passes_in_the_singular() {
+    // --no-drift with one error bound: one rule, and the verdict says "the one rule".
+    let (dir, profile) = setup();
+    let new = simulate(dir.path(), "same.csv", "1.9", "21");
+    let out = runcal()
+        .args(["check", "--no-drift", "--max-mae", "0.5", "--profile"])
+        .arg(&profile)
+        .arg(&new)
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let all = format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(all.contains("PASSED: the one rule holds"), "{all}");
+    assert!(!all.contains("all 1 rules"), "{all}");
+}
+
+#[test]
+fn backtest_reports_the_rmse_in_wins() {
+    // RMSE in wins = RMSE in win% × mean season length of the held-out team-seasons (140 here).
+    let v: Value = serde_json::from_slice(
+        &runcal()
+            .args(["backtest", &common::demo_path(), "--format", "json", "-q"])
+            .assert()
+            .success()
+            .get_output()
+            .stdout,
+    )
+    .unwrap();
+    for m in v["models"].as_array().unwrap() {
+        common::close(
+            common::f(&m["rmse_wins"]),
+            common::f(&m["rmse"]) * 140.0,
+            1e-9,
+            "rmse_wins",
+        );
+    }
+    let table = runcal()
+        .args(["backtest", &common::demo_path(), "-q"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let table = String::from_utf8(table).unwrap();
+    assert!(table.contains("rmse (wins)"), "{table}");
+}

@@ -22,7 +22,16 @@ fn databank_fit(extra: &[&str]) -> Value {
 fn databank_1980_2006_optimum_per_loss_matches_reference_script() {
     let r = reference();
     for loss in ["logloss", "mae", "rmse"] {
-        let v = databank_fit(&["--seasons", "1980-2006", "--loss", loss, "--no-references"]);
+        // reference.py's unweighted losses: each team-season counts once.
+        let v = databank_fit(&[
+            "--seasons",
+            "1980-2006",
+            "--loss",
+            loss,
+            "--no-references",
+            "--weight",
+            "none",
+        ]);
         assert_eq!(v["schema"], "runcal.fit/2");
         assert_eq!(v["rows_used"], 748);
         assert_eq!(v["rows_rejected"], 0);
@@ -41,6 +50,50 @@ fn databank_1980_2006_optimum_per_loss_matches_reference_script() {
         );
         close(f(&fit["metrics"][loss]), f(&want["loss"]), 1e-6, loss);
     }
+}
+
+#[test]
+fn mixed_season_lengths_weight_by_games_by_default_and_say_so() {
+    // 1980-2006 holds the strike-shortened 1981 and 1994-95 seasons (103 to 163 games): by default
+    // MAE and RMSE weight by games, matching reference.py's games-weighted optima (scipy).
+    let r = reference();
+    for loss in ["mae", "rmse"] {
+        let mut cmd = runcal();
+        cmd.arg("fit").arg(databank_path());
+        for m in DATABANK_MAPS {
+            cmd.args(["--map", m]);
+        }
+        let out = cmd
+            .args(["--seasons", "1980-2006", "--loss", loss, "--no-references"])
+            .args(["--format", "json"])
+            .assert()
+            .success()
+            .get_output()
+            .clone();
+        let err = String::from_utf8(out.stderr).unwrap();
+        assert!(
+            err.contains("season lengths differ") && err.contains("weight each team-season by its games"),
+            "{err}"
+        );
+        let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+        let want = &r["subsets"]["1980-2006"]["fits"]["pythagorean"][format!("{loss}_games")];
+        let fit = &v["fits"][0];
+        close(
+            f(&fit["params"]["exponent"]),
+            f(&want["params"]["exponent"]),
+            1e-4,
+            loss,
+        );
+    }
+    // One season length (the demo league's 140 games): equal weights, no note.
+    let out = runcal()
+        .args(["fit", &common::demo_path()])
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert!(!err.contains("season lengths differ"), "{err}");
 }
 
 #[test]
@@ -84,6 +137,8 @@ fn exponent_three_and_the_best_grid_exponent_give_the_usual_mae() {
             "--exponent",
             &format!("{x}"),
             "--no-references",
+            "--weight",
+            "none",
         ]);
         assert_eq!(v["fits"][0]["fitted"], false);
         f(&v["fits"][0]["metrics"]["mae"])
@@ -296,4 +351,131 @@ fn plot_writes_an_svg_with_the_optimum_marked() {
     let text = std::fs::read_to_string(&svg).unwrap();
     assert!(text.starts_with("<svg"));
     assert!(text.contains("optimum 1.92"));
+}
+
+#[test]
+fn a_fit_on_a_handful_of_team_seasons_warns_that_it_is_not_informative() {
+    // Two seasons of one Databank league: 1 parameter + 5 needs 6 team-seasons; AL 1901 has 8.
+    let few = |seasons: &str, league: &str| {
+        let mut cmd = runcal();
+        cmd.arg("fit").arg(databank_path());
+        for m in DATABANK_MAPS {
+            cmd.args(["--map", m]);
+        }
+        let out = cmd
+            .args(["--seasons", seasons, "--league", league, "--no-references"])
+            .assert()
+            .success()
+            .get_output()
+            .clone();
+        String::from_utf8(out.stderr).unwrap()
+    };
+    let err = few("1901", "AL");
+    assert!(!err.contains("not informative"), "8 team-seasons: {err}");
+    // A one-row file.
+    let dir = tempfile::tempdir().unwrap();
+    let one = dir.path().join("one.csv");
+    std::fs::write(
+        &one,
+        "season,team,wins,losses,runs_scored,runs_allowed\n2026,Aster,80,60,700,650\n",
+    )
+    .unwrap();
+    let out = runcal()
+        .args(["fit", "--no-references"])
+        .arg(&one)
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert!(
+        err.contains("fitted on one team-season") && err.contains("not informative"),
+        "{err}"
+    );
+}
+
+#[test]
+fn grouped_fit_shows_bootstrap_intervals_in_the_table() {
+    let out = runcal()
+        .args(["fit", &common::demo_path(), "--by", "season"])
+        .args(["--seasons", "2024-2025", "--bootstrap", "200", "--seed", "7"])
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let table = String::from_utf8(out.stdout).unwrap();
+    assert!(table.contains("95% bootstrap interval"), "{table}");
+    // Each group's interval in the table is the one its JSON reports.
+    let v: Value = serde_json::from_slice(
+        &runcal()
+            .args(["fit", &common::demo_path(), "--by", "season"])
+            .args(["--seasons", "2024-2025", "--bootstrap", "200", "--seed", "7"])
+            .args(["--format", "json", "-q"])
+            .assert()
+            .success()
+            .get_output()
+            .stdout,
+    )
+    .unwrap();
+    for fit in v["fits"].as_array().unwrap() {
+        let ci = &fit["ci"]["exponent"];
+        let cell = format!("{:.4}–{:.4}", f(&ci[0]), f(&ci[1]));
+        assert!(table.contains(&cell), "{cell} not in\n{table}");
+    }
+}
+
+#[test]
+fn comparison_csv_holds_the_ranked_table_with_the_json_values() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("comparison.csv");
+    let out = runcal()
+        .args(["fit", &common::demo_path(), "--model", "all", "--format", "json", "-q"])
+        .arg("--comparison-csv")
+        .arg(&path)
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let v: Value = serde_json::from_slice(&out).unwrap();
+    let mut rdr = csv::Reader::from_path(&path).unwrap();
+    let header = rdr.headers().unwrap().clone();
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    let rows: Vec<csv::StringRecord> = rdr.records().map(|r| r.unwrap()).collect();
+    let fits = v["fits"].as_array().unwrap();
+    // Every fit and reference once, ranked by log-loss.
+    assert_eq!(rows.len(), fits.len());
+    let loss: Vec<f64> = rows
+        .iter()
+        .map(|r| r[col("logloss")].parse().unwrap())
+        .collect();
+    assert!(loss.windows(2).all(|w| w[0] <= w[1]), "{loss:?}");
+    for (i, r) in rows.iter().enumerate() {
+        assert_eq!(r[col("rank")], (i + 1).to_string());
+        let fitted = &r[col("status")] == "fitted";
+        // Two references share a model (exponents 2 and 1.83): the log-loss tells them apart.
+        let j = fits
+            .iter()
+            .find(|j| {
+                j["model"] == r[col("model")]
+                    && j["fitted"] == fitted
+                    && (f(&j["metrics"]["logloss"]) - loss[i]).abs() < 1e-12
+            })
+            .unwrap();
+        for (name, value) in j["params"].as_object().unwrap() {
+            let cell: f64 = r[col(&format!("param_{name}"))].parse().unwrap();
+            close(cell, f(value), 1e-12, name);
+        }
+        close(
+            r[col("rmse_wins")].parse().unwrap(),
+            f(&j["metrics"]["rmse_wins"]),
+            1e-12,
+            "rmse_wins",
+        );
+    }
+    // The comparison file may not overwrite an input.
+    runcal()
+        .args(["fit", &common::demo_path(), "--comparison-csv", &common::demo_path()])
+        .assert()
+        .code(2);
 }

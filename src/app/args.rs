@@ -32,9 +32,10 @@ pub struct InputArgs {
     /// How ties count toward win%: half a win and half a loss, or left out.
     #[arg(long, value_enum, default_value_t = TiesArg::Half)]
     pub ties: TiesArg,
-    /// Weight team-seasons in MAE and RMSE equally or by games.
-    #[arg(long, value_enum, default_value_t = WeightArg::None)]
-    pub weight: WeightArg,
+    /// Weight team-seasons in MAE and RMSE equally or by games [default: by games when season
+    /// lengths differ by more than 10%, else equally; a note says which].
+    #[arg(long, value_enum)]
+    pub weight: Option<WeightArg>,
     /// Go on past bad rows: list each on stderr and count it as rejected.
     #[arg(long)]
     pub skip_invalid: bool,
@@ -59,7 +60,7 @@ impl InputArgs {
     pub fn as_in_profile(&self, p: &runcal::profile::Profile) -> InputArgs {
         InputArgs {
             ties: p.ties.into(),
-            weight: p.weight.into(),
+            weight: Some(p.weight.into()),
             ..self.clone()
         }
     }
@@ -68,8 +69,12 @@ impl InputArgs {
         self.ties.into()
     }
 
-    pub fn weighting(&self) -> Weighting {
-        self.weight.into()
+    /// `--weight`, or the default for these rows with the note that says what it chose.
+    pub fn weighting(&self, rows: &[data::TeamSeason]) -> (Weighting, Option<String>) {
+        match self.weight {
+            Some(w) => (w.into(), None),
+            None => data::table::default_weighting(rows),
+        }
     }
 }
 

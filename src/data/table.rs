@@ -22,6 +22,28 @@ pub enum Weighting {
     Games,
 }
 
+/// Season lengths that differ by more than this share of the longest make equal weights unfair:
+/// a 60-game season's win% is noisier than a 162-game one's (our choice of "about 10%").
+pub const WEIGHT_SPREAD: f64 = 0.10;
+
+/// The default MAE/RMSE weighting for these rows: by games when the longest and shortest
+/// team-seasons differ by more than [`WEIGHT_SPREAD`] of the longest, else equal; with the note
+/// that says so when it chose games.
+pub fn default_weighting(rows: &[TeamSeason]) -> (Weighting, Option<String>) {
+    let games = rows.iter().map(|r| r.games).filter(|&g| g > 0);
+    let (Some(lo), Some(hi)) = (games.clone().min(), games.max()) else {
+        return (Weighting::None, None);
+    };
+    if (hi - lo) as f64 > WEIGHT_SPREAD * hi as f64 {
+        let note = format!(
+            "season lengths differ ({lo} to {hi} games): MAE and RMSE weight each team-season by its games (--weight none weighs them equally)"
+        );
+        (Weighting::Games, Some(note))
+    } else {
+        (Weighting::None, None)
+    }
+}
+
 /// Per-row quantities precomputed once: the fitters never touch strings or divide twice.
 #[derive(Debug, Clone, Default)]
 pub struct Table {
@@ -44,6 +66,8 @@ pub struct Table {
     pub diff_per_game: Vec<f64>,
     /// MAE/RMSE weight of each row.
     pub weight: Vec<f64>,
+    /// How `weight` was set.
+    pub weighting: Weighting,
     pub runs_total: f64,
     pub games_total: f64,
 }
@@ -51,7 +75,10 @@ pub struct Table {
 impl Table {
     /// Build the table. Rows with no decisions under the tie policy must have been rejected before.
     pub fn new(rows: &[TeamSeason], ties: TiePolicy, weighting: Weighting) -> Table {
-        let mut t = Table::default();
+        let mut t = Table {
+            weighting,
+            ..Table::default()
+        };
         for r in rows {
             let (w, l) = match ties {
                 TiePolicy::Half => (
@@ -116,6 +143,7 @@ impl Table {
             log10_rpg: pick(&self.log10_rpg),
             diff_per_game: pick(&self.diff_per_game),
             weight: pick(&self.weight),
+            weighting: self.weighting,
             runs_total: idx.iter().map(|&i| self.rpg[i] * self.games[i]).sum(),
             games_total: games.iter().sum(),
             games,

@@ -93,6 +93,36 @@ pub struct Calibration {
     /// Whether the data can tell the fitted models apart (log-loss fits over all rows, two or
     /// more models): ranked by the loss, told apart by QAIC (see [`super::compare`]).
     pub comparison: Option<super::Comparison>,
+    /// Fits on too few team-seasons to inform (see [`WEAK_FIT_MARGIN`]), in words.
+    pub warnings: Vec<String>,
+}
+
+/// A fit needs at least its parameter count plus this many team-seasons to say anything about a
+/// league (our choice of "a handful"): fewer, and the fitted values mostly follow noise.
+pub const WEAK_FIT_MARGIN: usize = 5;
+
+/// Warnings for fits on fewer team-seasons than parameters + [`WEAK_FIT_MARGIN`].
+fn weak_fits(fits: &[ModelFit]) -> Vec<String> {
+    fits.iter()
+        .filter(|f| f.fitted && f.rows < f.model.params.len() + WEAK_FIT_MARGIN)
+        .map(|f| {
+            let on = match f.rows {
+                1 => "one team-season".to_string(),
+                n => format!("{n} team-seasons"),
+            };
+            let group = f
+                .group
+                .as_ref()
+                .map_or(String::new(), |g| format!(" (group {g})"));
+            let k = f.model.params.len();
+            let params = if k == 1 { "parameter" } else { "parameters" };
+            format!(
+                "{}{group} is fitted on {on}, fewer than the {} ({k} {params} + {WEAK_FIT_MARGIN}) a fit needs: the fit is not informative (its values mostly follow noise); fit on more team-seasons",
+                f.model.kind,
+                k + WEAK_FIT_MARGIN
+            )
+        })
+        .collect()
 }
 
 /// Fit, score and rank as the plan says. `rows` and `table` are the same rows in the same order.
@@ -200,6 +230,7 @@ pub fn calibrate(
         group: primary_group,
         residuals: luck::histogram(&teams.iter().map(|t| t.luck_wins).collect::<Vec<_>>(), 24),
     });
+    let warnings = weak_fits(&fits);
     Ok(Calibration {
         fits,
         ranking,
@@ -215,6 +246,7 @@ pub fn calibrate(
         saved,
         chart,
         comparison,
+        warnings,
     })
 }
 

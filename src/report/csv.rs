@@ -86,10 +86,118 @@ pub fn fit(r: &FitReport) -> Result<Vec<u8>, Error> {
     finish(w)
 }
 
+/// Every parameter name over all models, for the comparison CSV's one column per parameter.
+fn all_param_names() -> Vec<&'static str> {
+    let mut names: Vec<&'static str> = Vec::new();
+    for k in crate::model::ModelKind::ALL {
+        for n in k.param_names() {
+            if !names.contains(n) {
+                names.push(n);
+            }
+        }
+    }
+    names
+}
+
+/// The model comparison of `runcal fit` (`--comparison-csv`): one row per fit and reference, ranked
+/// (in group order with `--by`), one column per parameter, its standard error and bootstrap
+/// interval, then the metrics. Empty cells where a model has no such parameter or value.
+pub fn fit_comparison(r: &FitReport) -> Result<Vec<u8>, Error> {
+    let c = &r.calibration;
+    let names = all_param_names();
+    let mut header: Vec<String> = ["rank", "group", "model", "status", "team_seasons"]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    for n in &names {
+        header.push(format!("param_{n}"));
+        header.push(format!("std_error_{n}"));
+        header.push(format!("ci_low_{n}"));
+        header.push(format!("ci_high_{n}"));
+    }
+    header.extend(
+        [
+            "ci_level",
+            "logloss",
+            "mae",
+            "rmse",
+            "rmse_wins",
+            "bias",
+            "runs_per_win",
+            "implied_exponent_low",
+            "implied_exponent_high",
+            "aic",
+            "delta_qaic",
+        ]
+        .iter()
+        .map(|s| s.to_string()),
+    );
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record(&header).map_err(write_err)?;
+    let order: Vec<usize> = if r.grouped {
+        (0..c.fits.len()).collect()
+    } else {
+        c.ranking.clone()
+    };
+    let standings = c.comparison.as_ref().map_or(&[][..], |x| &x.standings[..]);
+    for (pos, &i) in order.iter().enumerate() {
+        let f = &c.fits[i];
+        let mut row = vec![
+            if r.grouped {
+                String::new()
+            } else {
+                (pos + 1).to_string()
+            },
+            f.group
+                .as_ref()
+                .map_or(String::new(), |g| safe(&g.to_string()).into_owned()),
+            f.model.kind.name().to_string(),
+            if f.fitted { "fitted" } else { "reference" }.to_string(),
+            f.rows.to_string(),
+        ];
+        let own = f.model.kind.param_names();
+        for n in &names {
+            let j = own.iter().position(|o| o == n);
+            let at = |v: Option<&Vec<f64>>| cell(j.and_then(|j| v.and_then(|v| v.get(j).copied())));
+            row.push(cell(j.map(|j| f.model.params[j])));
+            row.push(at(f.std_errors.as_ref().map(|s| &s.corrected)));
+            let ci = j.and_then(|j| f.intervals.as_ref().and_then(|iv| iv.params.get(j).copied()));
+            row.push(cell(ci.map(|c| c.0)));
+            row.push(cell(ci.map(|c| c.1)));
+        }
+        let m = &f.metrics;
+        let implied = match f.model.kind {
+            crate::model::ModelKind::Pythagorean => None,
+            _ => f.exponent_range,
+        };
+        let delta_qaic = standings
+            .iter()
+            .find(|s| f.fitted && s.label == f.model.kind.name())
+            .and_then(|s| s.delta_qaic);
+        row.extend([
+            cell(f.intervals.as_ref().map(|iv| iv.level)),
+            cell(Some(m.logloss)),
+            cell(Some(m.mae)),
+            cell(Some(m.rmse)),
+            cell(Some(m.rmse_wins)),
+            cell(Some(m.bias)),
+            cell(Some(f.runs_per_win)),
+            cell(implied.map(|x| x.0)),
+            cell(implied.map(|x| x.1)),
+            cell(f.criteria.map(|k| k.aic)),
+            cell(if r.grouped { None } else { delta_qaic }),
+        ]);
+        w.write_record(&row).map_err(write_err)?;
+    }
+    finish(w)
+}
+
 pub fn backtest(r: &super::BacktestReport) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(["rank", "model", "fitted", "mae", "rmse", "logloss", "folds"])
-        .map_err(write_err)?;
+    w.write_record([
+        "rank", "model", "fitted", "mae", "rmse", "rmse_wins", "logloss", "folds",
+    ])
+    .map_err(write_err)?;
     for (i, s) in r.scores.iter().enumerate() {
         let fitted = matches!(s.candidate, crate::fit::backtest::Candidate::Fit(_));
         w.write_record([
@@ -98,6 +206,7 @@ pub fn backtest(r: &super::BacktestReport) -> Result<Vec<u8>, Error> {
             fitted.to_string(),
             cell(Some(s.metrics.mae)),
             cell(Some(s.metrics.rmse)),
+            cell(Some(s.metrics.rmse_wins)),
             cell(Some(s.metrics.logloss)),
             s.folds.len().to_string(),
         ])

@@ -161,8 +161,8 @@ fn footnotes(r: &LuckReport) -> String {
         n.source.describe(),
         family.family_level,
         match family.teams {
-            1 => "1 team".to_string(),
-            k => format!("{k} teams"),
+            1 => "1 team-season".to_string(),
+            k => format!("{k} team-seasons"),
         }
     );
     if let Some(o) = r.outlook {

@@ -111,6 +111,17 @@ fn uncertainty(f: &ModelFit) -> Vec<String> {
     lines
 }
 
+/// A fit's percentile bootstrap interval per parameter, `1.8712–1.9803`, or `-` without one.
+fn bootstrap_cell(f: &ModelFit) -> String {
+    f.intervals.as_ref().map_or("-".to_string(), |iv| {
+        iv.params
+            .iter()
+            .map(|(lo, hi)| format!("{lo:.4}–{hi:.4}"))
+            .collect::<Vec<_>>()
+            .join(", ")
+    })
+}
+
 fn exponent_range(f: &ModelFit) -> String {
     match (f.model.kind, f.exponent_range) {
         (crate::model::ModelKind::Pythagorean, _) | (_, None) => "-".to_string(),
@@ -178,7 +189,7 @@ fn comparison(r: &FitReport) -> String {
         "rmse (wins)",
         "bias",
         "runs/win",
-        "exponent range",
+        "implied exponent span",
         "AIC",
         "ΔQAIC",
     ];
@@ -262,8 +273,18 @@ fn grouped(r: &FitReport) -> String {
         "runs/win",
         "note",
     ];
-    let mut t = new_table(&header, 3);
     let c = &r.calibration;
+    // With --bootstrap, each group's percentile interval sits beside its standard error.
+    let boot_level = c
+        .fits
+        .iter()
+        .find_map(|f| f.intervals.as_ref().map(|iv| iv.level));
+    let mut header: Vec<String> = header.iter().map(|h| h.to_string()).collect();
+    if let Some(level) = boot_level {
+        header.insert(4, format!("{:.0}% bootstrap interval", level * 100.0));
+    }
+    let header: Vec<&str> = header.iter().map(String::as_str).collect();
+    let mut t = new_table(&header, 3);
     for row in &c.group_rows {
         let cells = match row {
             crate::fit::calibrate::GroupRow::Fitted(i) => {
@@ -280,7 +301,7 @@ fn grouped(r: &FitReport) -> String {
                 } else {
                     ""
                 };
-                vec![
+                let mut cells = vec![
                     g,
                     f.model.kind.to_string(),
                     params(f),
@@ -297,10 +318,17 @@ fn grouped(r: &FitReport) -> String {
                     num(f.metrics.rmse, 5),
                     num(f.runs_per_win, 2),
                     note.to_string(),
-                ]
+                ];
+                if boot_level.is_some() {
+                    cells.insert(4, bootstrap_cell(f));
+                }
+                cells
             }
             crate::fit::calibrate::GroupRow::TooSmall(g, n) => {
                 let mut cells = vec![g.to_string(), "-".into(), "-".into(), "-".into()];
+                if boot_level.is_some() {
+                    cells.push("-".into());
+                }
                 cells.push(n.to_string());
                 cells.extend(std::iter::repeat_n("-".to_string(), 4));
                 cells.push("too small to fit".into());
@@ -310,6 +338,9 @@ fn grouped(r: &FitReport) -> String {
                 let u = &c.unfitted[*i];
                 let mut cells = vec![u.group.to_string(), u.model.to_string(), "-".into()];
                 cells.push("-".into());
+                if boot_level.is_some() {
+                    cells.push("-".into());
+                }
                 cells.push(u.rows.to_string());
                 cells.extend(std::iter::repeat_n("-".to_string(), 4));
                 cells.push(format!("not fitted: {}", u.reason));
@@ -378,6 +409,7 @@ pub fn backtest(r: &super::BacktestReport) -> String {
             "logloss",
             "mae",
             "rmse",
+            "rmse (wins)",
             "behind best",
             "paired SE",
             "folds won",
@@ -405,6 +437,7 @@ pub fn backtest(r: &super::BacktestReport) -> String {
             num(s.metrics.logloss, 6),
             num(s.metrics.mae, 5),
             num(s.metrics.rmse, 5),
+            num(s.metrics.rmse_wins, 2),
             format!("{:.2e}", s.margin),
             s.margin_se
                 .map_or("-".to_string(), |se| format!("{se:.2e}")),

@@ -2,7 +2,7 @@
 
 use clap::ValueEnum;
 
-use crate::app::args::{InputArgs, TiesArg, WeightArg};
+use crate::app::args::{InputArgs, TiesArg};
 use runcal::data::{Mapping, gamelog::Date};
 use runcal::digest::{self, Calibration};
 use runcal::error::Error;
@@ -148,7 +148,7 @@ fn input_of(args: &Args, profile: &Profile) -> InputArgs {
         seasons: None,
         league: args.league.clone(),
         ties: TiesArg::Half,
-        weight: WeightArg::None,
+        weight: None,
         skip_invalid: args.skip_invalid,
         max_rows: 50_000_000,
     }

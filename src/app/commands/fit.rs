@@ -49,6 +49,10 @@ pub struct Args {
     /// Save the first model's calibration as a profile for `luck` and `check`.
     #[arg(long, value_name = "FILE")]
     pub save_profile: Option<String>,
+    /// Also write the model comparison (the ranked table: parameters, standard errors, bootstrap
+    /// intervals, metrics) as CSV to FILE; `--format csv` writes the per-team residuals.
+    #[arg(long, value_name = "FILE.csv")]
+    pub comparison_csv: Option<String>,
     /// Draw the loss against the exponent and a histogram of residuals (SVG).
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<String>,
@@ -68,6 +72,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             ("--output", args.output.output.as_ref()),
             ("--save-profile", args.save_profile.as_ref()),
             ("--plot", args.plot.as_ref()),
+            ("--comparison-csv", args.comparison_csv.as_ref()),
         ],
         files,
     )?;
@@ -93,6 +98,9 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     let calibration = calibrate(&ds.rows, &table, &plan);
     bar.finish_and_clear();
     let calibration = calibration?;
+    for w in &calibration.warnings {
+        diag.warn(w);
+    }
     for u in &calibration.unfitted {
         diag.warn(&format!(
             "group {}: {}; marked as not fitted",
@@ -112,7 +120,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
                     "--save-profile needs a fit over all rows (not --by or --exponent)".into(),
                 )
             })?;
-        let (ties, weight) = (args.input.tie_policy(), args.input.weighting());
+        let (ties, weight) = (args.input.tie_policy(), table.weighting);
         Profile::from_fit(f, &ds, &table, ties, weight, files)?.save(path)?;
         diag.note(&format!("saved {} to {path}", f.model.label()));
     }
@@ -125,6 +133,12 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         calibration,
     };
     super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
+    if let Some(path) = &args.comparison_csv {
+        let inputs: Vec<&str> = files.iter().map(String::as_str).collect();
+        let bytes = runcal::report::csv::fit_comparison(&report)?;
+        runcal::output::emit(Some(path), &inputs, &bytes)?;
+        diag.note(&format!("wrote {path}"));
+    }
     super::emit(&report, &args.output, files)?;
     Ok(0)
 }

@@ -50,7 +50,11 @@ pub fn load_any(
     let mut ds = data::load(&input.files, input.games, &opts)?;
     data::table::decided_rows(&mut ds, input.tie_policy(), input.skip_invalid)?;
     diag.dataset(&ds);
-    let table = Table::new(&ds.rows, input.tie_policy(), input.weighting());
+    let (weighting, note) = input.weighting(&ds.rows);
+    if let Some(note) = note {
+        diag.note(&note);
+    }
+    let table = Table::new(&ds.rows, input.tie_policy(), weighting);
     Ok((ds, table))
 }
 

@@ -23,6 +23,8 @@ struct CandidateJson<'a> {
     params: Option<Named<'a, f64>>,
     mae: Num,
     rmse: Num,
+    /// RMSE in wins over the held-out seasons' mean length.
+    rmse_wins: Num,
     logloss: Num,
     /// Out-of-sample loss minus the best's, its paired standard error across folds, and the folds
     /// in which this candidate's loss was lowest.
@@ -64,6 +66,7 @@ pub fn backtest(r: &BacktestReport) -> BacktestJson<'_> {
                 params,
                 mae: Num(s.metrics.mae),
                 rmse: Num(s.metrics.rmse),
+                rmse_wins: Num(s.metrics.rmse_wins),
                 logloss: Num(s.metrics.logloss),
                 margin: Num(s.margin),
                 margin_se: s.margin_se.map(Num),
