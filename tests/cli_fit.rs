@@ -479,3 +479,52 @@ fn comparison_csv_holds_the_ranked_table_with_the_json_values() {
         .assert()
         .code(2);
 }
+
+#[test]
+fn loss_plot_ticks_are_distinct_at_the_precision_of_the_range() {
+    // The Pythagenport loss curve spans about 0.001 in log-loss: every tick label must differ, and
+    // all of one axis carry the same number of decimals.
+    let dir = tempfile::tempdir().unwrap();
+    let svg = dir.path().join("pp.svg");
+    let mut cmd = runcal();
+    cmd.arg("fit").arg(databank_path());
+    for m in DATABANK_MAPS {
+        cmd.args(["--map", m]);
+    }
+    cmd.args(["--model", "pythagenport", "-q", "--plot"])
+        .arg(&svg)
+        .assert()
+        .success();
+    let text = std::fs::read_to_string(&svg).unwrap();
+    // (anchor, label) of every text element: plotters anchors y tick labels at their end and x
+    // tick labels at their middle.
+    let labels: Vec<(String, String)> = text
+        .split("<text")
+        .skip(1)
+        .filter_map(|t| {
+            let (attrs, rest) = t.split_once('>')?;
+            let anchor = attrs.split("text-anchor=\"").nth(1)?.split('"').next()?;
+            let body = rest.split_once("</text>")?.0.trim();
+            Some((anchor.to_string(), body.to_string()))
+        })
+        .collect();
+    // The left panel's tick labels lie between its axis names and the legend.
+    let start = labels.iter().position(|l| l.1 == "a").unwrap() + 1;
+    let end = labels.iter().position(|l| l.1.starts_with("optimum")).unwrap();
+    let ticks = &labels[start..end];
+    let pick = |anchor: &str| -> Vec<&String> {
+        ticks.iter().filter(|l| l.0 == anchor).map(|l| &l.1).collect()
+    };
+    let (y, x) = (pick("end"), pick("middle"));
+    for axis in [&y, &x] {
+        assert!(axis.len() >= 3, "{ticks:?}");
+        let mut seen = axis.to_vec();
+        seen.dedup();
+        assert_eq!(seen.len(), axis.len(), "repeated tick labels: {axis:?}");
+        let decimals = |l: &str| l.split_once('.').map_or(0, |(_, d)| d.len());
+        assert!(
+            axis.iter().all(|l| decimals(l) == decimals(axis[0])),
+            "{axis:?}"
+        );
+    }
+}

@@ -154,6 +154,17 @@ pub fn render(
     Ok(svg)
 }
 
+/// Decimals for tick labels over `lo..hi`: plotters draws about ten ticks on a round step, so the
+/// labels need the step's first significant digit (a range of 0.0009 gets 4 decimals).
+pub fn tick_decimals(lo: f64, hi: f64) -> usize {
+    let span = (hi - lo).abs();
+    if !(span.is_finite() && span > 0.0) {
+        return 2;
+    }
+    let step = span / 10.0;
+    (-step.log10().floor()).clamp(0.0, 12.0) as usize
+}
+
 /// Loss against the parameter (left) and a histogram of residual wins (right).
 pub fn fit_chart(data: &FitChart, frame: &Frame) -> Result<Vec<u8>, Error> {
     let curve = &data.curve;
@@ -175,10 +186,14 @@ pub fn fit_chart(data: &FitChart, frame: &Frame) -> Result<Vec<u8>, Error> {
             .y_label_area_size(70)
             .build_cartesian_2d(x0..x1, y0..y1)
             .map_err(e)?;
+        // Tick labels as fixed decimals enough to tell neighbouring ticks apart over the range shown.
+        let (dx, dy) = (tick_decimals(x0, x1), tick_decimals(y0, y1));
         chart
             .configure_mesh()
             .x_desc(curve.param.as_str())
             .y_desc(curve.loss.as_str())
+            .x_label_formatter(&|v| format!("{v:.dx$}"))
+            .y_label_formatter(&|v| format!("{v:.dy$}"))
             .draw()
             .map_err(e)?;
         chart
