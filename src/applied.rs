@@ -120,7 +120,7 @@ pub fn choose_model(
         Ok(f) => f,
         // Too few games (every club unbeaten or winless, say) leave no interior optimum.
         Err(e @ (FitError::NoMinimum { .. } | FitError::Solver { .. }))
-            if rpg <= FALLBACK_MAX_RPG && table.len() > 0 =>
+            if rpg <= FALLBACK_MAX_RPG && !table.is_empty() =>
         {
             return Ok(published(format!("has no estimate ({e})")));
         }
@@ -133,7 +133,10 @@ pub fn choose_model(
         .and_then(|s| Some(s.corrected.first()? / f.model.params.first()?.abs()));
     let unstable = !relative_se.is_some_and(|r| r.is_finite() && r <= MAX_RELATIVE_SE);
     if unstable && rpg <= FALLBACK_MAX_RPG {
-        return Ok(published(format!("({params}) {}", instability(relative_se))));
+        return Ok(published(format!(
+            "({params}) {}",
+            instability(relative_se)
+        )));
     }
     let mut c = chosen(f.model.clone(), ModelSource::Fitted);
     c.fitted_dispersion = Some(f.std_errors.as_ref().map(|s| s.dispersion));

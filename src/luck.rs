@@ -216,7 +216,9 @@ impl Ranked {
         let first = rows.first();
         Ranked {
             team_seasons: rows.len(),
-            one_season: rows.iter().all(|r| Some(r.season) == first.map(|f| f.season)),
+            one_season: rows
+                .iter()
+                .all(|r| Some(r.season) == first.map(|f| f.season)),
             one_league: rows
                 .iter()
                 .all(|r| Some(&r.league) == first.map(|f| &f.league)),

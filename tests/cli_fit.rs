@@ -4,15 +4,11 @@
 
 mod common;
 
-use common::{DATABANK_MAPS, close, databank_path, f, reference, repo, runcal};
+use common::{close, f, reference, repo, runcal};
 use serde_json::Value;
 
 fn databank_fit(extra: &[&str]) -> Value {
-    let mut cmd = runcal();
-    cmd.arg("fit").arg(databank_path());
-    for m in DATABANK_MAPS {
-        cmd.args(["--map", m]);
-    }
+    let mut cmd = common::databank_cmd("fit");
     cmd.args(extra).args(["--format", "json", "-q"]);
     let out = cmd.assert().success().get_output().stdout.clone();
     serde_json::from_slice(&out).unwrap()
@@ -58,12 +54,7 @@ fn mixed_season_lengths_weight_by_games_by_default_and_say_so() {
     // MAE and RMSE weight by games, matching reference.py's games-weighted optima (scipy).
     let r = reference();
     for loss in ["mae", "rmse"] {
-        let mut cmd = runcal();
-        cmd.arg("fit").arg(databank_path());
-        for m in DATABANK_MAPS {
-            cmd.args(["--map", m]);
-        }
-        let out = cmd
+        let out = common::databank_cmd("fit")
             .args(["--seasons", "1980-2006", "--loss", loss, "--no-references"])
             .args(["--format", "json"])
             .assert()
@@ -72,7 +63,8 @@ fn mixed_season_lengths_weight_by_games_by_default_and_say_so() {
             .clone();
         let err = String::from_utf8(out.stderr).unwrap();
         assert!(
-            err.contains("season lengths differ") && err.contains("weight each team-season by its games"),
+            err.contains("season lengths differ")
+                && err.contains("weight each team-season by its games"),
             "{err}"
         );
         let v: Value = serde_json::from_slice(&out.stdout).unwrap();
@@ -355,14 +347,9 @@ fn plot_writes_an_svg_with_the_optimum_marked() {
 
 #[test]
 fn a_fit_on_a_handful_of_team_seasons_warns_that_it_is_not_informative() {
-    // Two seasons of one Databank league: 1 parameter + 5 needs 6 team-seasons; AL 1901 has 8.
+    // 1 parameter + 5 needs 6 team-seasons; the Databank's AL of 1901 has 8.
     let few = |seasons: &str, league: &str| {
-        let mut cmd = runcal();
-        cmd.arg("fit").arg(databank_path());
-        for m in DATABANK_MAPS {
-            cmd.args(["--map", m]);
-        }
-        let out = cmd
+        let out = common::databank_cmd("fit")
             .args(["--seasons", seasons, "--league", league, "--no-references"])
             .assert()
             .success()
@@ -398,7 +385,14 @@ fn a_fit_on_a_handful_of_team_seasons_warns_that_it_is_not_informative() {
 fn grouped_fit_shows_bootstrap_intervals_in_the_table() {
     let out = runcal()
         .args(["fit", &common::demo_path(), "--by", "season"])
-        .args(["--seasons", "2024-2025", "--bootstrap", "200", "--seed", "7"])
+        .args([
+            "--seasons",
+            "2024-2025",
+            "--bootstrap",
+            "200",
+            "--seed",
+            "7",
+        ])
         .assert()
         .success()
         .get_output()
@@ -409,7 +403,14 @@ fn grouped_fit_shows_bootstrap_intervals_in_the_table() {
     let v: Value = serde_json::from_slice(
         &runcal()
             .args(["fit", &common::demo_path(), "--by", "season"])
-            .args(["--seasons", "2024-2025", "--bootstrap", "200", "--seed", "7"])
+            .args([
+                "--seasons",
+                "2024-2025",
+                "--bootstrap",
+                "200",
+                "--seed",
+                "7",
+            ])
             .args(["--format", "json", "-q"])
             .assert()
             .success()
@@ -429,7 +430,15 @@ fn comparison_csv_holds_the_ranked_table_with_the_json_values() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("comparison.csv");
     let out = runcal()
-        .args(["fit", &common::demo_path(), "--model", "all", "--format", "json", "-q"])
+        .args([
+            "fit",
+            &common::demo_path(),
+            "--model",
+            "all",
+            "--format",
+            "json",
+            "-q",
+        ])
         .arg("--comparison-csv")
         .arg(&path)
         .assert()
@@ -475,7 +484,12 @@ fn comparison_csv_holds_the_ranked_table_with_the_json_values() {
     }
     // The comparison file may not overwrite an input.
     runcal()
-        .args(["fit", &common::demo_path(), "--comparison-csv", &common::demo_path()])
+        .args([
+            "fit",
+            &common::demo_path(),
+            "--comparison-csv",
+            &common::demo_path(),
+        ])
         .assert()
         .code(2);
 }
@@ -486,11 +500,7 @@ fn loss_plot_ticks_are_distinct_at_the_precision_of_the_range() {
     // all of one axis carry the same number of decimals.
     let dir = tempfile::tempdir().unwrap();
     let svg = dir.path().join("pp.svg");
-    let mut cmd = runcal();
-    cmd.arg("fit").arg(databank_path());
-    for m in DATABANK_MAPS {
-        cmd.args(["--map", m]);
-    }
+    let mut cmd = common::databank_cmd("fit");
     cmd.args(["--model", "pythagenport", "-q", "--plot"])
         .arg(&svg)
         .assert()
@@ -510,10 +520,17 @@ fn loss_plot_ticks_are_distinct_at_the_precision_of_the_range() {
         .collect();
     // The left panel's tick labels lie between its axis names and the legend.
     let start = labels.iter().position(|l| l.1 == "a").unwrap() + 1;
-    let end = labels.iter().position(|l| l.1.starts_with("optimum")).unwrap();
+    let end = labels
+        .iter()
+        .position(|l| l.1.starts_with("optimum"))
+        .unwrap();
     let ticks = &labels[start..end];
     let pick = |anchor: &str| -> Vec<&String> {
-        ticks.iter().filter(|l| l.0 == anchor).map(|l| &l.1).collect()
+        ticks
+            .iter()
+            .filter(|l| l.0 == anchor)
+            .map(|l| &l.1)
+            .collect()
     };
     let (y, x) = (pick("end"), pick("middle"));
     for axis in [&y, &x] {

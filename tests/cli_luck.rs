@@ -437,11 +437,17 @@ fn luck_plot_is_an_svg_with_labelled_extremes() {
 const DEMO_GAMES: &str = "demo-data/meridian-2026-games.csv";
 const DEMO_PROFILE: &str = "demo-data/meridian-profile.json";
 
+/// `runcal luck` on the demo season's log with the demo profile, for more args.
+fn demo_luck() -> Command {
+    let mut c = runcal();
+    c.args(["luck", "--games", DEMO_GAMES, "--profile", DEMO_PROFILE]);
+    c
+}
+
 #[test]
 fn a_finished_season_shows_final_records_and_no_projection() {
     // The demo log's last game is 18 August; every club has played its 140 games by then.
-    let out = runcal()
-        .args(["luck", "--games", DEMO_GAMES, "--profile", DEMO_PROFILE])
+    let out = demo_luck()
         .args(["--as-of", "2026-12-01"])
         .assert()
         .success()
@@ -454,25 +460,22 @@ fn a_finished_season_shows_final_records_and_no_projection() {
     );
     assert!(stdout.contains("season complete"), "{stdout}");
     assert!(!stdout.contains("final wins"), "{stdout}");
-    let v = json(
-        runcal()
-            .args(["luck", "--games", DEMO_GAMES, "--profile", DEMO_PROFILE])
-            .args(["--as-of", "2026-12-01", "--format", "json", "-q"]),
-    );
+    let v = json(demo_luck().args(["--as-of", "2026-12-01", "--format", "json", "-q"]));
     assert_eq!(v["season_complete"], true);
     assert_eq!(v["games_through"], "2026-08-18");
     assert!(v["outlook"].is_null());
-    assert!(v["teams"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .all(|t| t["outlook"].is_null() && t["evidence"]["games"] == 140));
+    assert!(
+        v["teams"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .all(|t| t["outlook"].is_null() && t["evidence"]["games"] == 140)
+    );
 }
 
 #[test]
 fn season_games_below_games_played_is_an_error() {
-    let err = runcal()
-        .args(["luck", "--games", DEMO_GAMES, "--profile", DEMO_PROFILE])
+    let err = demo_luck()
         .args(["--as-of", "2026-06-01", "--season-games", "30"])
         .assert()
         .code(2)
@@ -490,8 +493,8 @@ fn season_games_below_games_played_is_an_error() {
 fn high_scoring_log(dir: &std::path::Path) -> std::path::PathBuf {
     let mut s = String::from("date,home,away,home_score,away_score\n");
     let clubs = ["Aster", "Birch", "Cedar", "Dogwood"];
-    let mut day = 1;
     for round in 0..4u32 {
+        let day = round + 1;
         for (i, h) in clubs.iter().enumerate() {
             for (j, a) in clubs.iter().enumerate() {
                 if i != j {
@@ -501,7 +504,6 @@ fn high_scoring_log(dir: &std::path::Path) -> std::path::PathBuf {
                 }
             }
         }
-        day += 1;
     }
     let p = dir.join("hoops.csv");
     std::fs::write(&p, s).unwrap();
@@ -523,7 +525,13 @@ fn a_profile_far_from_the_data_warns_and_fails_on_request() {
     // Both run environments are named: the data's and the profile's 9.2.
     assert!(err.contains("warning:") && err.contains("9.2"), "{err}");
     let out = runcal()
-        .args(["luck", "--games", "--profile", DEMO_PROFILE, "--fail-on-mismatch"])
+        .args([
+            "luck",
+            "--games",
+            "--profile",
+            DEMO_PROFILE,
+            "--fail-on-mismatch",
+        ])
         .arg(&log)
         .assert()
         .failure()
@@ -551,7 +559,10 @@ fn a_partial_season_too_short_to_fit_falls_back_to_the_published_exponent() {
         .clone();
     let stdout = String::from_utf8(out.stdout).unwrap();
     let err = String::from_utf8(out.stderr).unwrap();
-    assert!(stdout.lines().next().unwrap().contains("published"), "{stdout}");
+    assert!(
+        stdout.lines().next().unwrap().contains("published"),
+        "{stdout}"
+    );
     assert!(err.contains("published PythagenPat"), "{err}");
     let v = json(
         runcal()
@@ -574,22 +585,18 @@ fn without_a_profile_the_heading_says_the_fit_is_on_the_data_at_hand() {
         .clone();
     let first = String::from_utf8(out.stdout).unwrap();
     let first = first.lines().next().unwrap().to_string();
-    assert!(first.contains("fitted on these data alone, no --profile"), "{first}");
+    assert!(
+        first.contains("fitted on these data alone, no --profile"),
+        "{first}"
+    );
     assert!(first.contains("games through 2026-06-01"), "{first}");
 }
 
 #[test]
 fn constant_columns_are_hoisted_only_when_the_shown_rows_share_them() {
-    let mut maps = Vec::new();
-    for m in common::DATABANK_MAPS {
-        maps.extend(["--map", m]);
-    }
     // 2019-2020, both leagues: neither season nor league is constant over the ranking.
-    let out = runcal()
-        .arg("luck")
-        .args(&maps)
+    let out = common::databank_cmd("luck")
         .args(["--seasons", "2019-2020", "--top", "2", "-q"])
-        .arg(common::databank_path())
         .assert()
         .success()
         .get_output()
@@ -599,11 +606,8 @@ fn constant_columns_are_hoisted_only_when_the_shown_rows_share_them() {
     assert!(!stdout.contains("league: "), "{stdout}");
     assert!(stdout.contains("4 of 60 team-seasons shown"), "{stdout}");
     // One season of one league: both are hoisted above the table.
-    let out = runcal()
-        .arg("luck")
-        .args(&maps)
+    let out = common::databank_cmd("luck")
         .args(["--seasons", "2019", "--league", "AL", "--top", "2", "-q"])
-        .arg(common::databank_path())
         .assert()
         .success()
         .get_output()
@@ -611,4 +615,67 @@ fn constant_columns_are_hoisted_only_when_the_shown_rows_share_them() {
     let stdout = String::from_utf8(out.stdout).unwrap();
     assert!(stdout.contains("season: 2019"), "{stdout}");
     assert!(stdout.contains("league: AL"), "{stdout}");
+}
+
+#[test]
+fn the_unit_word_labels_tables_charts_and_the_document_but_not_json_keys() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = dir.path().join("luck.svg");
+    let out = demo_luck()
+        .args(["--as-of", "2026-06-01", "--unit", "points", "-q", "--plot"])
+        .arg(&svg)
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let table = String::from_utf8(out).unwrap();
+    assert!(table.contains("point diff/game"), "{table}");
+    assert!(table.contains("points for–against"), "{table}");
+    assert!(table.contains("one-point record"), "{table}");
+    assert!(!table.contains("runs"), "{table}");
+    let chart = std::fs::read_to_string(&svg).unwrap();
+    assert!(chart.contains("expected win% (from points)"), "{chart}");
+    // JSON keys stay as they are whatever the unit.
+    let v = json(demo_luck().args([
+        "--as-of",
+        "2026-06-01",
+        "--unit",
+        "goals",
+        "--format",
+        "json",
+        "-q",
+    ]));
+    assert!(v["teams"][0]["evidence"]["runs_scored"].is_number());
+    // fit and the weekly document.
+    let fit = runcal()
+        .args(["fit", &common::demo_path(), "--unit", "goals"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let fit = String::from_utf8(fit).unwrap();
+    assert!(
+        fit.contains("goals/win") && !fit.contains("runs/win"),
+        "{fit}"
+    );
+    let page = dir.path().join("week.html");
+    runcal()
+        .args([
+            "digest",
+            DEMO_GAMES,
+            "--profile",
+            DEMO_PROFILE,
+            "--as-of",
+            "2026-06-01",
+        ])
+        .args(["--unit", "points", "-q", "--output"])
+        .arg(&page)
+        .assert()
+        .success();
+    let page = std::fs::read_to_string(&page).unwrap();
+    assert!(page.contains("points scored and allowed"), "methods note");
+    assert!(page.contains("point diff/game"), "luck table");
+    assert!(!page.contains("runs scored and allowed"));
 }

@@ -10,6 +10,7 @@ use runcal::eras::{ChangeBy, WindowKind};
 use runcal::fit::bootstrap::{self, Resample};
 use runcal::fit::{Loss, backtest::Scheme};
 use runcal::report::Format;
+use runcal::report::Unit;
 
 /// Where the rows come from and which of them to use.
 #[derive(Debug, Clone, Args)]
@@ -39,6 +40,10 @@ pub struct InputArgs {
     /// Go on past bad rows: list each on stderr and count it as rejected.
     #[arg(long)]
     pub skip_invalid: bool,
+    /// What the scores count, for the words of tables, charts and documents (runs, points or
+    /// goals); JSON keys and CSV headers keep `runs`.
+    #[arg(long, value_enum, default_value_t = UnitArg::Runs)]
+    pub unit: UnitArg,
     /// Refuse inputs with more rows than this (protects against runaway files).
     #[arg(long, value_name = "N", default_value_t = 50_000_000)]
     pub max_rows: u64,
@@ -102,6 +107,7 @@ macro_rules! value_mirror {
 
 value_mirror!(TiesArg => TiePolicy { Half, Exclude });
 value_mirror!(WeightArg => Weighting { None, Games });
+value_mirror!(UnitArg => Unit { Runs, Points, Goals });
 value_mirror!(
     /// Output format.
     FormatArg => Format { Table, Json, Csv }

@@ -161,7 +161,11 @@ pub fn fit_comparison(r: &FitReport) -> Result<Vec<u8>, Error> {
             let at = |v: Option<&Vec<f64>>| cell(j.and_then(|j| v.and_then(|v| v.get(j).copied())));
             row.push(cell(j.map(|j| f.model.params[j])));
             row.push(at(f.std_errors.as_ref().map(|s| &s.corrected)));
-            let ci = j.and_then(|j| f.intervals.as_ref().and_then(|iv| iv.params.get(j).copied()));
+            let ci = j.and_then(|j| {
+                f.intervals
+                    .as_ref()
+                    .and_then(|iv| iv.params.get(j).copied())
+            });
             row.push(cell(ci.map(|c| c.0)));
             row.push(cell(ci.map(|c| c.1)));
         }
@@ -195,7 +199,14 @@ pub fn fit_comparison(r: &FitReport) -> Result<Vec<u8>, Error> {
 pub fn backtest(r: &super::BacktestReport) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record([
-        "rank", "model", "fitted", "mae", "rmse", "rmse_wins", "logloss", "folds",
+        "rank",
+        "model",
+        "fitted",
+        "mae",
+        "rmse",
+        "rmse_wins",
+        "logloss",
+        "folds",
     ])
     .map_err(write_err)?;
     for (i, s) in r.scores.iter().enumerate() {

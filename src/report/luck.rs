@@ -48,6 +48,10 @@ pub fn grid(r: &LuckReport) -> Grid {
     let with_one_run = r.teams.iter().any(|l| l.one_run.is_some());
     let level = r.outlook.map(|o| o.level);
     let range_label = format!("\n{:.0}% range", level.unwrap_or(0.0) * 100.0);
+    let (one, many) = (r.unit.singular(), r.unit.plural());
+    let diff_label = format!("the evidence\n{one} diff/game");
+    let for_against = format!("\n{many} for–against");
+    let one_run = format!("\none-{one} record");
     let mut header: Vec<&str> = vec![
         "season",
         "league",
@@ -57,8 +61,8 @@ pub fn grid(r: &LuckReport) -> Grid {
         "\np",
         "\nHolm p",
         "\nreading",
-        "the evidence\nrun diff/game",
-        "\nruns for–against",
+        diff_label.as_str(),
+        for_against.as_str(),
         "\nexpected win%",
         "\nwin%",
         "\nrecord",
@@ -66,7 +70,7 @@ pub fn grid(r: &LuckReport) -> Grid {
         "\nexpected wins",
     ];
     if with_one_run {
-        header.push("\none-run record");
+        header.push(one_run.as_str());
     }
     if level.is_some() {
         header.extend([
@@ -118,17 +122,24 @@ pub fn grid(r: &LuckReport) -> Grid {
         rows,
         text: Grid::names(&["season", "league", "team", "\nreading"]),
         // A heading states a season or league only when the whole ranking shares it.
-        fold: [("season", r.ranked.one_season), ("league", r.ranked.one_league)]
-            .iter()
-            .filter(|(_, alike)| *alike)
-            .map(|(name, _)| name.to_string())
-            .collect(),
+        fold: [
+            ("season", r.ranked.one_season),
+            ("league", r.ranked.one_league),
+        ]
+        .iter()
+        .filter(|(_, alike)| *alike)
+        .map(|(name, _)| name.to_string())
+        .collect(),
     }
 }
 
 fn heading(r: &LuckReport) -> String {
     let shown = if r.teams.len() < r.ranked.team_seasons {
-        format!("{} of {} team-seasons shown", r.teams.len(), r.ranked.team_seasons)
+        format!(
+            "{} of {} team-seasons shown",
+            r.teams.len(),
+            r.ranked.team_seasons
+        )
     } else {
         super::count(r.ranked.team_seasons, "team-season", "team-seasons")
     };
@@ -167,8 +178,9 @@ fn footnotes(r: &LuckReport) -> String {
     );
     if let Some(o) = r.outlook {
         out.push_str(&format!(
-            "outlook: {}-game season; run-based win% regressed toward .500 by {:.1} games; {:.0}% range from a beta-binomial, with the probability it actually holds\n",
+            "outlook: {}-game season; {}-based win% regressed toward .500 by {:.1} games; {:.0}% range from a beta-binomial, with the probability it actually holds\n",
             o.season_games,
+            r.unit.singular(),
             o.regression_games,
             o.level * 100.0
         ));

@@ -100,6 +100,35 @@ pub fn signed(v: f64, decimals: usize) -> String {
     }
 }
 
+/// What a score counts, for the words of tables, charts and the document (`--unit`); JSON keys
+/// and CSV headers keep `runs` whatever the unit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Unit {
+    #[default]
+    Runs,
+    Points,
+    Goals,
+}
+
+impl Unit {
+    /// `runs`, `points`, `goals`.
+    pub fn plural(self) -> &'static str {
+        match self {
+            Unit::Runs => "runs",
+            Unit::Points => "points",
+            Unit::Goals => "goals",
+        }
+    }
+    /// `run`, `point`, `goal` (as in run differential, one-run games, run-based).
+    pub fn singular(self) -> &'static str {
+        match self {
+            Unit::Runs => "run",
+            Unit::Points => "point",
+            Unit::Goals => "goal",
+        }
+    }
+}
+
 /// The result of `runcal fit`.
 #[derive(Debug, Clone)]
 pub struct FitReport {
@@ -109,6 +138,7 @@ pub struct FitReport {
     pub seasons: Option<(i32, i32)>,
     pub grouped: bool,
     pub calibration: crate::fit::calibrate::Calibration,
+    pub unit: Unit,
 }
 
 impl Report for FitReport {
@@ -153,6 +183,7 @@ pub struct LuckReport {
     pub teams: Vec<crate::luck::LuckLine>,
     /// Positions in `teams` that the chart labels (`--plot`); `None` without a chart.
     pub chart_labels: Option<Vec<usize>>,
+    pub unit: Unit,
 }
 
 impl Report for LuckReport {
@@ -168,7 +199,7 @@ impl Report for LuckReport {
     fn svg(&self) -> Option<Result<Vec<u8>, Error>> {
         self.chart_labels.as_ref().map(|labels| {
             let frame = svg::Frame::luck(&self.model, &self.source, self.as_of);
-            svg::luck_chart(&self.teams, labels, &frame).map(String::into_bytes)
+            svg::luck_chart(&self.teams, labels, &frame, self.unit).map(String::into_bytes)
         })
     }
 }

@@ -246,7 +246,12 @@ pub fn fit_chart(data: &FitChart, frame: &Frame) -> Result<Vec<u8>, Error> {
 }
 
 /// Actual against expected win% with the identity line; the teams at `labels` named.
-pub fn luck_chart(lines: &[LuckLine], labels: &[usize], frame: &Frame) -> Result<String, Error> {
+pub fn luck_chart(
+    lines: &[LuckLine],
+    labels: &[usize],
+    frame: &Frame,
+    unit: super::Unit,
+) -> Result<String, Error> {
     render(480, 470, frame, |root| {
         let e = |e: DrawingAreaErrorKind<std::io::Error>| e.to_string();
         let all = lines
@@ -264,8 +269,11 @@ pub fn luck_chart(lines: &[LuckLine], labels: &[usize], frame: &Frame) -> Result
             .x_label_formatter(&|v| super::pct(*v))
             .y_label_formatter(&|v| super::pct(*v))
             .label_style(("sans-serif", 16))
-            .x_desc("expected win% (from runs)")
-            .y_desc("actual win% (above line: ahead of runs)")
+            .x_desc(format!("expected win% (from {})", unit.plural()))
+            .y_desc(format!(
+                "actual win% (above line: ahead of {})",
+                unit.plural()
+            ))
             .axis_desc_style(("sans-serif", 15))
             .draw()
             .map_err(e)?;

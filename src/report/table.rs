@@ -177,6 +177,7 @@ pub fn fit(r: &FitReport) -> String {
 
 fn comparison(r: &FitReport) -> String {
     let loss = r.loss.name();
+    let per_win = format!("{}/win", r.unit.plural());
     let header = [
         "rank",
         "model",
@@ -188,7 +189,7 @@ fn comparison(r: &FitReport) -> String {
         "rmse",
         "rmse (wins)",
         "bias",
-        "runs/win",
+        per_win.as_str(),
         "implied exponent span",
         "AIC",
         "ΔQAIC",
@@ -261,6 +262,7 @@ fn comparison(r: &FitReport) -> String {
 }
 
 fn grouped(r: &FitReport) -> String {
+    let per_win = format!("{}/win", r.unit.plural());
     let header = [
         "group",
         "model",
@@ -270,7 +272,7 @@ fn grouped(r: &FitReport) -> String {
         "logloss",
         "mae",
         "rmse",
-        "runs/win",
+        per_win.as_str(),
         "note",
     ];
     let c = &r.calibration;

@@ -49,6 +49,16 @@ pub const DATABANK_MAPS: [&str; 4] = [
     "runs_scored=R",
 ];
 
+/// `runcal SUB <databank> --map …`: a command on the Databank table with its maps, for more args.
+pub fn databank_cmd(sub: &str) -> assert_cmd::Command {
+    let mut cmd = runcal();
+    cmd.arg(sub).arg(databank_path());
+    for m in DATABANK_MAPS {
+        cmd.args(["--map", m]);
+    }
+    cmd
+}
+
 pub fn databank(seasons: Option<&str>) -> Dataset {
     let opts = LoadOptions {
         maps: DATABANK_MAPS.iter().map(|m| m.parse().unwrap()).collect(),

@@ -2,7 +2,7 @@
 
 use clap::ValueEnum;
 
-use crate::app::args::{InputArgs, TiesArg};
+use crate::app::args::{InputArgs, TiesArg, UnitArg};
 use runcal::data::{Mapping, gamelog::Date};
 use runcal::digest::{self, Calibration};
 use runcal::error::Error;
@@ -51,6 +51,9 @@ pub struct Args {
     /// Go on past bad rows: list each on stderr and count it as rejected.
     #[arg(long)]
     pub skip_invalid: bool,
+    /// What the scores count, for the document's words (runs, points or goals).
+    #[arg(long, value_enum, default_value_t = UnitArg::Runs)]
+    pub unit: UnitArg,
     /// Fail (exit 2) instead of warning when the log's runs per game sit far (a factor of 1.5) from
     /// the profile's.
     #[arg(long)]
@@ -151,6 +154,7 @@ fn input_of(args: &Args, profile: &Profile) -> InputArgs {
         weight: None,
         skip_invalid: args.skip_invalid,
         max_rows: 50_000_000,
+        unit: args.unit,
     }
     .as_in_profile(profile)
 }
@@ -196,7 +200,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     let sources = digest::sources(&args.files)?;
     let calibration = Calibration::of(&profile, &args.profile);
     let d = digest::assemble(calibration, sources, current, compare_to, previous);
-    let doc = document::render(&d, args.format.into(), &stem)?;
+    let doc = document::render(&d, args.format.into(), &stem, args.unit.into())?;
     let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
     for (name, bytes) in &doc.files {
         runcal::output::write_atomic(&format!("{dir}{name}"), bytes)?;

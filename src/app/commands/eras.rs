@@ -80,6 +80,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         rows_rejected: ds.rejected.len(),
         from_games: args.input.games,
         analysis,
+        unit: args.input.unit.into(),
     };
     super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     super::emit(&report, &args.output, files)?;

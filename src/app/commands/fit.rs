@@ -131,6 +131,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         seasons: super::season_span(&ds),
         grouped: args.by.is_some(),
         calibration,
+        unit: args.input.unit.into(),
     };
     super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     if let Some(path) = &args.comparison_csv {

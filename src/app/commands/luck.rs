@@ -2,9 +2,9 @@
 
 use crate::app::args::{EnvironmentArgs, InputArgs, OutputArgs, positive};
 use crate::app::values;
+use runcal::applied;
 use runcal::data::gamelog::Date;
 use runcal::error::Error;
-use runcal::applied;
 use runcal::luck;
 use runcal::profile::Profile;
 use runcal::report::LuckReport;
@@ -120,6 +120,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             .is_some()
             .then(|| luck::labelled_extremes(lines.len())),
         teams: lines,
+        unit: args.input.unit.into(),
     };
     super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     super::emit(&report, &args.output, files)?;

@@ -138,6 +138,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         groups_from,
         counts: plan.counts,
         rows_used: league.clubs.len(),
+        unit: args.input.unit.into(),
         rows_rejected: ds.rejected.len(),
     };
     super::write_chart(&report, args.plot.as_deref(), &read, &diag)?;

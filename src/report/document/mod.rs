@@ -65,7 +65,7 @@ fn title_of(d: &Digest) -> String {
     }
 }
 
-fn calibration_facts(d: &Digest) -> Vec<(&'static str, String)> {
+fn calibration_facts(d: &Digest, unit: super::Unit) -> Vec<(&'static str, String)> {
     let c = &d.calibration;
     let mut facts = vec![
         ("model", super::table::model_label(&c.model)),
@@ -100,8 +100,9 @@ fn calibration_facts(d: &Digest) -> Vec<(&'static str, String)> {
         facts.push((
             "regression toward .500",
             format!(
-                "{} games (of the run-based win%)",
-                num(o.regression_games, 1)
+                "{} games (of the {}-based win%)",
+                num(o.regression_games, 1),
+                unit.singular()
             ),
         ));
     }
@@ -209,7 +210,7 @@ fn outlook_grid(d: &Digest) -> Grid {
 }
 
 /// The document's charts, drawn from the digest.
-pub fn charts(d: &Digest) -> Result<Vec<Chart>, Error> {
+pub fn charts(d: &Digest, unit: super::Unit) -> Result<Vec<Chart>, Error> {
     let subtitle = super::table::model_label(&d.calibration.model);
     let luck = svg::luck_chart(
         &d.current.lines,
@@ -218,11 +219,15 @@ pub fn charts(d: &Digest) -> Result<Vec<Chart>, Error> {
             title: format!("Wins against scoring, games through {}", d.current.as_of),
             subtitle: subtitle.clone(),
         },
+        unit,
     )?;
     let mut out = vec![Chart {
         name: "luck",
         svg: luck,
-        caption: "Each dot is a club: actual win% against the win% its runs predict. Clubs above the line have won more than their scoring predicts; the labels give wins vs expected.".to_string(),
+        caption: format!(
+            "Each dot is a club: actual win% against the win% its {} predict. Clubs above the line have won more than their scoring predicts; the labels give wins vs expected.",
+            unit.plural()
+        ),
     }];
     if !d.outlook.is_empty() {
         let bars: Vec<OutlookBar> = d
@@ -247,15 +252,16 @@ pub fn charts(d: &Digest) -> Result<Vec<Chart>, Error> {
     Ok(out)
 }
 
+/// The methods note; `{many}` and `{one}` stand for the unit's words (runs, run).
 const METHODS: &[&str] = &[
-    "Expected win% comes from each club's runs scored and allowed under the saved calibration (the model and parameters named below, fitted on the seasons it names). Wins vs expected is actual wins (ties as half) minus games decided times expected win%.",
+    "Expected win% comes from each club's {many} scored and allowed under the saved calibration (the model and parameters named below, fitted on the seasons it names). Wins vs expected is actual wins (ties as half) minus games decided times expected win%.",
     "The gap in SD divides wins vs expected by its noise, the square root of dispersion × games decided × p̂(1 − p̂): win records scatter around their scoring with less than coin-flip variance, and the calibration's dispersion says how much less. A club 2 SD or more from its scoring is marked in the luck table, and called beyond chance when its p-value, adjusted by Holm's method over the clubs shown, stays small. Over a short stretch most gaps are noise.",
-    "The outlook adds to the wins so far the remaining games times the run-based win% regressed toward .500 by the calibration's regression games; its range comes from a beta-binomial distribution with the same centre, and the luck table gives the probability the range actually holds.",
+    "The outlook adds to the wins so far the remaining games times the {one}-based win% regressed toward .500 by the calibration's regression games; its range comes from a beta-binomial distribution with the same centre, and the luck table gives the probability the range actually holds.",
     "Week-over-week columns repeat the same calculation with only the games played on or before the comparison date; nothing is stored between weeks.",
 ];
 
 /// Lay the whole document out on one markup format.
-pub fn lay_out(d: &Digest, charts: &[Chart], m: &mut dyn Markup) {
+pub fn lay_out(d: &Digest, charts: &[Chart], unit: super::Unit, m: &mut dyn Markup) {
     m.title(
         &title_of(d),
         &format!(
@@ -287,7 +293,7 @@ pub fn lay_out(d: &Digest, charts: &[Chart], m: &mut dyn Markup) {
     m.table(
         "luck-table",
         "Clubs ordered by wins vs expected: most ahead of their scoring first.",
-        &super::luck::grid(&luck_report(d, &d.current)),
+        &super::luck::grid(&luck_report(d, &d.current, unit)),
     );
     if let Some(c) = charts.iter().find(|c| c.name == "luck") {
         m.figure(c);
@@ -321,7 +327,7 @@ pub fn lay_out(d: &Digest, charts: &[Chart], m: &mut dyn Markup) {
 
     m.heading("calibration", "Calibration used");
     m.facts(
-        &calibration_facts(d)
+        &calibration_facts(d, unit)
             .iter()
             .map(|(k, v)| (*k, v.clone()))
             .collect::<Vec<_>>(),
@@ -329,7 +335,10 @@ pub fn lay_out(d: &Digest, charts: &[Chart], m: &mut dyn Markup) {
 
     m.heading("methods", "Methods");
     for p in METHODS {
-        m.paragraph(&[text(*p)]);
+        let p = p
+            .replace("{many}", unit.plural())
+            .replace("{one}", unit.singular());
+        m.paragraph(&[text(p)]);
     }
     m.footer(&format!(
         "Made by runcal {} from {} club-seasons ({} rows rejected).",
@@ -346,7 +355,7 @@ pub enum DocFormat {
 }
 
 /// A snapshot as the luck report it equals.
-fn luck_report(d: &Digest, s: &crate::digest::Snapshot) -> super::LuckReport {
+fn luck_report(d: &Digest, s: &crate::digest::Snapshot, unit: super::Unit) -> super::LuckReport {
     super::LuckReport {
         model: d.calibration.model.clone(),
         source: super::ModelSource::Profile(d.calibration.profile.clone()),
@@ -360,16 +369,22 @@ fn luck_report(d: &Digest, s: &crate::digest::Snapshot) -> super::LuckReport {
         outlook: s.settings.outlook,
         teams: s.lines.clone(),
         chart_labels: None,
+        unit,
     }
 }
 
 /// Render the document. Markdown's chart files are named after `stem` (the document's file name
 /// without its extension) and returned beside it.
-pub fn render(d: &Digest, format: DocFormat, stem: &str) -> Result<Rendered, Error> {
+pub fn render(
+    d: &Digest,
+    format: DocFormat,
+    stem: &str,
+    unit: super::Unit,
+) -> Result<Rendered, Error> {
     match format {
         DocFormat::Json => {
-            let now = luck_report(d, &d.current);
-            let before = d.previous.as_ref().map(|s| luck_report(d, s));
+            let now = luck_report(d, &d.current, unit);
+            let before = d.previous.as_ref().map(|s| luck_report(d, s, unit));
             Ok(Rendered {
                 main: super::json::to_bytes(&json::digest(d, &now, before.as_ref()))?,
                 files: Vec::new(),
@@ -377,7 +392,7 @@ pub fn render(d: &Digest, format: DocFormat, stem: &str) -> Result<Rendered, Err
         }
         DocFormat::Html => {
             let mut page = html::Page::new();
-            lay_out(d, &charts(d)?, &mut page);
+            lay_out(d, &charts(d, unit)?, unit, &mut page);
             Ok(Rendered {
                 main: page.finish(),
                 files: Vec::new(),
@@ -385,7 +400,7 @@ pub fn render(d: &Digest, format: DocFormat, stem: &str) -> Result<Rendered, Err
         }
         DocFormat::Markdown => {
             let mut doc = markdown::Document::new(stem);
-            lay_out(d, &charts(d)?, &mut doc);
+            lay_out(d, &charts(d, unit)?, unit, &mut doc);
             let (main, files) = doc.finish();
             Ok(Rendered { main, files })
         }

@@ -18,6 +18,7 @@ pub struct EraReport {
     /// The inputs were game logs aggregated into team-seasons.
     pub from_games: bool,
     pub analysis: EraAnalysis,
+    pub unit: crate::report::Unit,
 }
 
 impl Report for EraReport {

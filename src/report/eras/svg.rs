@@ -193,7 +193,7 @@ pub fn chart(r: &EraReport) -> Result<Vec<u8>, Error> {
             .x_label_formatter(&|v| format!("{v:.0}"))
             .y_label_formatter(&|v| format!("{v:.2}"))
             .x_desc("last season of the window")
-            .y_desc("runs per game (both teams)")
+            .y_desc(format!("{} per game (both teams)", r.unit.plural()))
             .light_line_style(WHITE.mix(0.0))
             .label_style(("sans-serif", 14))
             .axis_desc_style(("sans-serif", 15))

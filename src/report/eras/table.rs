@@ -146,12 +146,13 @@ pub fn render(r: &EraReport) -> String {
         a.window,
     );
     out.push_str(&format!(
-        "whole history: exponent {} ± {}; PythagenPat z {} ± {} at {} runs per game (published z {})\n",
+        "whole history: exponent {} ± {}; PythagenPat z {} ± {} at {} {} per game (published z {})\n",
         num(h.exponent, 3),
         num(h.exponent_se, 3),
         num(h.z, 4),
         num(h.z_se, 4),
         num(h.runs_per_game, 2),
+        r.unit.plural(),
         eras::PUBLISHED_Z
     ));
     let with_interval = a.ci_level.is_some();
@@ -161,10 +162,11 @@ pub fn render(r: &EraReport) -> String {
         .unwrap_or_default();
     let implied_history = format!("implied by z {}", num(h.z, 3));
     let implied_published = format!("implied by z {}", eras::PUBLISHED_Z);
+    let per_game = format!("{}/game", r.unit.plural());
     let mut header = vec![
         "seasons",
         "team-seasons",
-        "runs/game",
+        per_game.as_str(),
         "exponent",
         "std. error",
     ];

@@ -31,6 +31,7 @@ pub struct OutlookReport {
     pub counts: PlanCounts,
     pub rows_used: usize,
     pub rows_rejected: usize,
+    pub unit: super::Unit,
 }
 
 impl Report for OutlookReport {
@@ -75,7 +76,7 @@ pub(crate) fn source_text(s: &ModelSource) -> String {
     s.describe()
 }
 
-fn shrinkage_text(o: &Outlook) -> String {
+fn shrinkage_text(o: &Outlook, unit: super::Unit) -> String {
     let s = &o.shrinkage;
     let how = match s.source {
         ShrinkageSource::Profile => format!("saved in the profile; φ {:.3}", s.dispersion),
@@ -91,7 +92,8 @@ fn shrinkage_text(o: &Outlook) -> String {
         "held fixed (--no-strength-draw: finishing chances are overconfident)"
     };
     format!(
-        "strength: run-based win% regressed toward .500 by {:.1} games ({how}); {draw}",
+        "strength: {}-based win% regressed toward .500 by {:.1} games ({how}); {draw}",
+        unit.singular(),
         s.run_based_games
     )
 }
@@ -176,7 +178,7 @@ pub fn table(r: &OutlookReport) -> String {
         "model: {} ({})\n{}\n{}\n{}; {}\n",
         model_label(&r.model),
         source_text(&r.source),
-        shrinkage_text(o),
+        shrinkage_text(o, r.unit),
         home_text(o),
         schedule_text(&r.counts),
         groups_text(&r.groups_from)
