@@ -15,7 +15,8 @@ cargo build --quiet
 mkdir -p target/render-page
 page="$PWD/target/render-page/meridian-week.html"
 ./target/debug/runcal digest demo-data/meridian-2026-games.csv \
-  --profile demo-data/meridian-profile.json --as-of 2026-07-15 --output "$page"
+  --profile demo-data/meridian-profile.json --as-of 2026-07-15 \
+  --groups demo-data/meridian-divisions.csv --output "$page"
 
 # No network for the browser when this shell may make a namespace; a dead proxy otherwise.
 run=()

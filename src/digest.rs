@@ -22,6 +22,11 @@ pub const MOVERS_PER_MEASURE: usize = 3;
 /// A change smaller than this (wins) is not a move: it shows as 0.0 at the tables' one decimal.
 pub const SMALLEST_MOVE: f64 = 0.05;
 
+/// A change in first-place chance smaller than this (five percentage points) is not a move: well
+/// above the Monte-Carlo noise of two 10,000-season runs (about one point at most), and a smaller
+/// change tells a reader little (our choice).
+pub const SMALLEST_CHANCE_MOVE: f64 = 0.05;
+
 /// The calibration the document applies, and where its numbers come from.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Calibration {
@@ -59,6 +64,9 @@ pub struct Snapshot {
     /// How far these data sit from the profile's run environment (empty when it suits them).
     pub mismatch: Vec<String>,
     pub lines: Vec<LuckLine>,
+    /// Each club's chance of finishing first in its group (team → chance), from the schedule-aware
+    /// simulation of the games left; `None` when no outlook was simulated.
+    pub first_place: Option<std::collections::BTreeMap<String, f64>>,
 }
 
 /// One number at the earlier date, at the later one, and the difference.
@@ -105,6 +113,7 @@ pub struct ClubChange {
     pub games_after: u64,
     pub wins_over_expected: Option<Change>,
     pub projected_wins: Option<Change>,
+    pub first_place: Option<Change>,
 }
 
 /// Which number a mover moved in.
@@ -112,6 +121,7 @@ pub struct ClubChange {
 pub enum Measure {
     WinsOverExpected,
     ProjectedWins,
+    FirstPlace,
 }
 
 impl Measure {
@@ -119,6 +129,7 @@ impl Measure {
         match self {
             Measure::WinsOverExpected => "wins_over_expected",
             Measure::ProjectedWins => "projected_wins",
+            Measure::FirstPlace => "first_place_chance",
         }
     }
 }
@@ -142,6 +153,8 @@ pub struct OutlookLine {
     pub projected_wins: f64,
     /// 80% range of final wins.
     pub range: (f64, f64),
+    /// Chance of finishing first in its group (schedule-aware simulation).
+    pub first_place: Option<f64>,
 }
 
 /// The whole document, computed.
@@ -211,6 +224,9 @@ fn changes(current: &Snapshot, previous: Option<&Snapshot>) -> Vec<ClubChange> {
             let club = Club::of(now);
             let then = before(&club);
             let projected = |l: &LuckLine| l.projection.map(|p| p.projected_wins);
+            let chance = |s: Option<&Snapshot>| {
+                s.and_then(|s| s.first_place.as_ref()?.get(&now.line.team).copied())
+            };
             ClubChange {
                 games_before: then.map_or(0, |t| t.line.games),
                 games_after: now.line.games,
@@ -219,6 +235,10 @@ fn changes(current: &Snapshot, previous: Option<&Snapshot>) -> Vec<ClubChange> {
                 projected_wins: then
                     .and_then(projected)
                     .zip(projected(now))
+                    .map(|(b, a)| Change::between(b, a)),
+                first_place: chance(previous)
+                    .filter(|_| then.is_some())
+                    .zip(chance(Some(current)))
                     .map(|(b, a)| Change::between(b, a)),
                 club,
             }
@@ -231,15 +251,20 @@ fn changes(current: &Snapshot, previous: Option<&Snapshot>) -> Vec<ClubChange> {
 
 fn movers(changes: &[ClubChange]) -> Vec<Mover> {
     let mut out = Vec::new();
-    for measure in [Measure::WinsOverExpected, Measure::ProjectedWins] {
+    for measure in [
+        Measure::WinsOverExpected,
+        Measure::ProjectedWins,
+        Measure::FirstPlace,
+    ] {
         let mut these: Vec<Mover> = changes
             .iter()
             .filter_map(|c| {
-                let change = match measure {
-                    Measure::WinsOverExpected => c.wins_over_expected,
-                    Measure::ProjectedWins => c.projected_wins,
-                }?;
-                (change.change.abs() >= SMALLEST_MOVE).then(|| Mover {
+                let (change, smallest) = match measure {
+                    Measure::WinsOverExpected => (c.wins_over_expected?, SMALLEST_MOVE),
+                    Measure::ProjectedWins => (c.projected_wins?, SMALLEST_MOVE),
+                    Measure::FirstPlace => (c.first_place?, SMALLEST_CHANCE_MOVE),
+                };
+                (change.change.abs() >= smallest).then(|| Mover {
                     measure,
                     club: c.club.clone(),
                     change,
@@ -273,6 +298,10 @@ fn outlook(current: &Snapshot) -> Vec<OutlookLine> {
                 remaining: p.remaining,
                 projected_wins: p.projected_wins,
                 range: p.interval,
+                first_place: current
+                    .first_place
+                    .as_ref()
+                    .and_then(|f| f.get(&l.line.team).copied()),
             })
         })
         .collect();
@@ -282,6 +311,14 @@ fn outlook(current: &Snapshot) -> Vec<OutlookLine> {
             .then_with(|| a.club.cmp(&b.club))
     });
     out
+}
+
+/// Each club's chance of finishing first in its group, by team.
+pub fn first_place_chances(o: &crate::outlook::Outlook) -> std::collections::BTreeMap<String, f64> {
+    o.groups
+        .iter()
+        .flat_map(|g| g.clubs.iter().map(|c| (c.team.clone(), c.chance_first)))
+        .collect()
 }
 
 /// Put the document together from its two snapshots.
@@ -335,6 +372,7 @@ pub fn snapshot(
             None,
         ),
         settings,
+        first_place: None,
     })
 }
 
@@ -383,6 +421,7 @@ mod tests {
             games_after: 2,
             wins_over_expected: woe.map(c),
             projected_wins: proj.map(c),
+            first_place: None,
         }
     }
 

@@ -95,7 +95,8 @@ fn week_over_week_equals_two_separate_luck_runs() {
         .find(|m| m["measure"] == "wins_over_expected")
         .unwrap();
     assert_eq!(first["change"].as_f64().unwrap().abs(), largest);
-    assert!(movers.len() <= 6);
+    // Three measures: wins vs expected, projected wins, first-place chance.
+    assert!(movers.len() <= 3 * runcal::digest::MOVERS_PER_MEASURE);
     assert_eq!(d["caution"], runcal::CAUTION);
 }
 
@@ -384,4 +385,120 @@ fn caution_travels_with_every_output_of_luck_or_projections() {
         .output()
         .unwrap();
     assert!(out.stderr.is_empty());
+}
+
+/// `runcal outlook` on the demo log as of `date` with the demo divisions: team → chance of first.
+fn outlook_first_place(date: &str) -> std::collections::BTreeMap<String, f64> {
+    let mut c = runcal();
+    c.args(["outlook", GAMES, "--profile", PROFILE, "--as-of", date])
+        .args([
+            "--groups",
+            "demo-data/meridian-divisions.csv",
+            "--format",
+            "json",
+        ]);
+    let v = json_of(c);
+    v["clubs"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| {
+            (
+                c["team"].as_str().unwrap().to_string(),
+                c["chance_first"].as_f64().unwrap(),
+            )
+        })
+        .collect()
+}
+
+#[test]
+fn first_place_chances_and_their_change_equal_two_separate_outlook_runs() {
+    let d = json_of(digest(
+        "2026-07-15",
+        &[
+            "--groups",
+            "demo-data/meridian-divisions.csv",
+            "--format",
+            "json",
+        ],
+    ));
+    let (now, then) = (
+        outlook_first_place("2026-07-15"),
+        outlook_first_place("2026-07-08"),
+    );
+    assert_eq!(now.len(), 14);
+    for o in d["outlook"].as_array().unwrap() {
+        let team = o["team"].as_str().unwrap();
+        assert_eq!(
+            o["first_place_chance"].as_f64().unwrap(),
+            now[team],
+            "{team}"
+        );
+    }
+    for w in d["week"].as_array().unwrap() {
+        let team = w["team"].as_str().unwrap();
+        let c = &w["first_place_chance"];
+        assert_eq!(c["before"].as_f64().unwrap(), then[team], "{team}");
+        assert_eq!(c["after"].as_f64().unwrap(), now[team], "{team}");
+    }
+    // Every group's chances sum to one (ties for first share the credit).
+    let groups =
+        std::fs::read_to_string(common::repo().join("demo-data/meridian-divisions.csv")).unwrap();
+    let mut sums: std::collections::BTreeMap<String, f64> = Default::default();
+    for line in groups.lines().skip(1) {
+        let (team, group) = line.split_once(',').unwrap();
+        *sums.entry(group.to_string()).or_default() += now[team];
+    }
+    assert!(sums.len() >= 2, "{sums:?}");
+    for (g, s) in &sums {
+        assert!((s - 1.0).abs() < 1e-9, "group {g} sums to {s}");
+    }
+    // Changes of five points or more are movers, named in the page's words.
+    let movers: Vec<&Value> = d["movers"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|m| m["measure"] == "first_place_chance")
+        .collect();
+    assert!(!movers.is_empty());
+    assert!(
+        movers
+            .iter()
+            .all(|m| m["change"].as_f64().unwrap().abs() >= 0.05)
+    );
+    let page = digest(
+        "2026-07-15",
+        &["--groups", "demo-data/meridian-divisions.csv"],
+    )
+    .output()
+    .unwrap();
+    let page = String::from_utf8(page.stdout).unwrap();
+    assert!(
+        page.contains("first-place chance rose by"),
+        "mover sentence"
+    );
+    assert!(page.contains("first-place chance"), "outlook column");
+}
+
+#[test]
+fn a_bad_groups_file_is_an_error_naming_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let fifo = dir.path().join("groups.csv");
+    common::mkfifo(&fifo);
+    let out = digest("2026-07-15", &["--groups", fifo.to_str().unwrap()])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("groups.csv"), "{err}");
+    let empty = dir.path().join("empty.csv");
+    std::fs::write(&empty, "").unwrap();
+    let out = digest("2026-07-15", &["--groups", empty.to_str().unwrap()])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let out = digest("2026-07-15", &["--simulations", "0"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
 }

@@ -157,6 +157,27 @@ fn posteriors(league: &League, shrinkage: &Shrinkage) -> Vec<Beta> {
         .collect()
 }
 
+/// The whole outlook from a season's rows, its plan (games played and left) and the model: the
+/// league with its groups (a teams file, else the log's column, else one group), the strength
+/// shrinkage (`regress_games`, else the profile's, else the data's) and the home edge of the plan,
+/// then [`simulate`]. `runcal outlook` and the weekly document both call this.
+#[allow(clippy::too_many_arguments)]
+pub fn for_season(
+    rows: &[crate::data::TeamSeason],
+    table: &crate::data::Table,
+    model: &crate::model::Model,
+    plan: &crate::data::schedule::SeasonPlan,
+    groups_file: Option<(&str, &std::collections::BTreeMap<String, String>)>,
+    regress_games: Option<f64>,
+    profile: Option<&crate::profile::Profile>,
+    settings: &Settings,
+) -> Result<(Outlook, league::GroupSource, usize), Error> {
+    let (league, source) = league::league(rows, table, model, plan, groups_file)?;
+    let shrinkage = league::shrinkage(regress_games, profile, table, model)?;
+    let outlook = simulate(&league, &shrinkage, &league::home_edge(plan), settings)?;
+    Ok((outlook, source, league.clubs.len()))
+}
+
 /// Simulate the rest of the season.
 pub fn simulate(
     league: &League,

@@ -14,9 +14,11 @@ use runcal::report::document::{self, DocFormat};
 ///
 /// Applies a saved calibration to a season's game log as of a date, and again as of a week before
 /// (or --compare-to), and writes one document: the calibration used, the biggest movers in words,
-/// the luck table, each club's change in wins over expected and projected wins, the projected
-/// final wins with their 80% ranges, two charts, a methods note and the caution. Nothing is stored
-/// between weeks: the earlier numbers are recomputed from the same file.
+/// the luck table, each club's change in wins over expected, projected wins and chance of finishing
+/// first in its group (the schedule-aware simulation of `runcal outlook`, over the log's games
+/// after each date), the projected final wins with their 80% ranges, two charts, a methods note
+/// and the caution. Nothing is stored between weeks: the earlier numbers are recomputed from the
+/// same file.
 ///
 /// HTML is one self-contained page (styles and charts inline, no script, nothing fetched). Markdown
 /// writes its charts as STEM-luck.svg and STEM-outlook.svg beside --output. JSON is runcal.digest/1.
@@ -58,6 +60,13 @@ pub struct Args {
     /// the profile's.
     #[arg(long)]
     pub fail_on_mismatch: bool,
+    /// Each club's group for the first-place chances: a CSV with columns team and group (default:
+    /// the log's league column, else one group).
+    #[arg(long, value_name = "FILE")]
+    pub groups: Option<String>,
+    /// Simulated seasons behind the first-place chances (the same as `runcal outlook`, seed 1).
+    #[arg(long, default_value_t = 10_000, value_name = "N")]
+    pub simulations: u64,
     /// Print no warnings on stderr.
     #[arg(long, short = 'q')]
     pub quiet: bool,
@@ -169,6 +178,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     let charts = ["luck", "outlook"].map(|c| format!("{dir}{stem}-{c}.svg"));
     let mut inputs = args.files.clone();
     inputs.push(args.profile.clone());
+    inputs.extend(args.groups.clone());
     let outputs = [
         ("--output", args.output.as_ref()),
         ("a chart", Some(&charts[0])),
@@ -176,14 +186,47 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     ];
     super::guard_outputs(&outputs, &inputs)?;
 
+    let settings = runcal::outlook::Settings {
+        simulations: args.simulations,
+        seed: 1,
+        draw_strength: true,
+        target_wins: None,
+    };
+    settings.validate()?;
     let profile = Profile::load(&args.profile)?;
     let input = input_of(args, &profile);
+    let opts = input.load_options();
+    if let Some(g) = &args.groups {
+        runcal::data::schedule::require_regular(g)?;
+    }
+    let groups = args
+        .groups
+        .as_deref()
+        .map(|p| runcal::data::schedule::read_groups(p, &opts).map(|g| (p, g)))
+        .transpose()?;
     let snapshot = |date: Date, diag: &Diagnostics| -> Result<Option<digest::Snapshot>, Error> {
         let (ds, table) = super::load_any(&input, Some(date), diag)?;
         if ds.rows.is_empty() {
             return Ok(None);
         }
-        digest::snapshot(&ds, &table, &profile, date).map(Some)
+        let mut snap = digest::snapshot(&ds, &table, &profile, date)?;
+        // The first-place chances: `runcal outlook` on the same log as of the same date.
+        let plan = runcal::data::schedule::read_plan(&args.files, &[], Some(date), &opts)?;
+        let outlook = runcal::outlook::for_season(
+            &ds.rows,
+            &table,
+            &profile.model(),
+            &plan,
+            groups.as_ref().map(|(p, g)| (*p, g)),
+            None,
+            Some(&profile),
+            &settings,
+        );
+        match outlook {
+            Ok((o, _, _)) => snap.first_place = Some(digest::first_place_chances(&o)),
+            Err(e) => diag.warn(&format!("no first-place chances as of {date}: {e}")),
+        }
+        Ok(Some(snap))
     };
     let current = snapshot(args.as_of, &diag)?.ok_or_else(|| {
         let files = args.files.join(", ");

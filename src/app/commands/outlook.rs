@@ -4,7 +4,7 @@ use crate::app::args::{EnvironmentArgs, InputArgs, OutputArgs};
 use runcal::data::gamelog::Date;
 use runcal::data::schedule;
 use runcal::error::Error;
-use runcal::outlook::{self, Settings, league};
+use runcal::outlook::{self, Settings};
 use runcal::profile::Profile;
 use runcal::report::outlook::OutlookReport;
 
@@ -119,15 +119,16 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         super::mismatch(&found, args.environment.fail, &diag)?;
     }
     let (model, source) = (chosen.model, chosen.source);
-    let (league, groups_from) = league::league(
+    let (result, groups_from, clubs) = outlook::for_season(
         &ds.rows,
         &table,
         &model,
         &plan,
         groups.as_ref().map(|(p, g)| (*p, g)),
+        args.regress_games,
+        profile.as_ref(),
+        &settings,
     )?;
-    let shrinkage = league::shrinkage(args.regress_games, profile.as_ref(), &table, &model)?;
-    let result = outlook::simulate(&league, &shrinkage, &league::home_edge(&plan), &settings)?;
     let report = OutlookReport {
         outlook: result,
         season: plan.season,
@@ -137,7 +138,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         source,
         groups_from,
         counts: plan.counts,
-        rows_used: league.clubs.len(),
+        rows_used: clubs,
         unit: args.input.unit.into(),
         rows_rejected: ds.rejected.len(),
     };

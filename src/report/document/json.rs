@@ -65,6 +65,8 @@ struct WeekJson<'a> {
     games_after: u64,
     wins_over_expected: Option<ChangeJson>,
     projected_wins: Option<ChangeJson>,
+    /// Chance of finishing first in the group (schedule-aware simulation), then and now.
+    first_place_chance: Option<ChangeJson>,
 }
 
 impl<'a> From<&'a crate::digest::ClubChange> for WeekJson<'a> {
@@ -75,6 +77,7 @@ impl<'a> From<&'a crate::digest::ClubChange> for WeekJson<'a> {
             games_after: w.games_after,
             wins_over_expected: change(w.wins_over_expected),
             projected_wins: change(w.projected_wins),
+            first_place_chance: change(w.first_place),
         }
     }
 }
@@ -108,6 +111,7 @@ struct OutlookJson<'a> {
     remaining_games: u64,
     projected_wins: Num,
     projected_interval: Pair,
+    first_place_chance: Option<Num>,
 }
 
 /// `runcal.digest/1`.
@@ -176,6 +180,7 @@ pub fn digest<'a>(
                 remaining_games: o.remaining,
                 projected_wins: Num(o.projected_wins),
                 projected_interval: Pair(o.range.0, o.range.1),
+                first_place_chance: o.first_place.map(Num),
             })
             .collect(),
     }

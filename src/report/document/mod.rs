@@ -6,6 +6,7 @@ pub mod html;
 pub mod json;
 pub mod markdown;
 
+use super::outlook::percent;
 use super::svg::{self, Frame, OutlookBar};
 use super::{Grid, num, record, signed};
 use crate::digest::{Change, Digest, Measure};
@@ -115,17 +116,22 @@ fn mover_sentences(d: &Digest) -> Vec<Vec<Span>> {
         .iter()
         .map(|m| {
             let c = &m.change;
-            // The tables write wins vs expected with its sign; projected wins without.
+            // The tables write wins vs expected with its sign, projected wins without, and the
+            // first-place chance as a percentage (its change in percentage points).
             let (what, value): (&str, fn(f64) -> String) = match m.measure {
                 Measure::WinsOverExpected => ("wins vs expected", |v| signed(v, 1)),
                 Measure::ProjectedWins => ("projected wins", |v| num(v, 1)),
+                Measure::FirstPlace => ("first-place chance", percent),
+            };
+            let by = match m.measure {
+                Measure::FirstPlace => format!("{} points", num(100.0 * c.change.abs(), 1)),
+                _ => num(c.change.abs(), 1),
             };
             let verb = if c.change > 0.0 { "rose" } else { "fell" };
             vec![
                 Span::Name(m.club.team.clone()),
                 text(format!(
-                    ": {what} {verb} by {} (from {} to {}).",
-                    num(c.change.abs(), 1),
+                    ": {what} {verb} by {by} (from {} to {}).",
                     value(c.before),
                     value(c.after)
                 )),
@@ -156,6 +162,9 @@ fn week_grid(d: &Digest) -> Grid {
             "projected wins then",
             "projected wins now",
             "change in projection",
+            "first-place chance then",
+            "first-place chance now",
+            "change in first-place chance (points)",
         ]),
         rows: d
             .changes
@@ -170,6 +179,14 @@ fn week_grid(d: &Digest) -> Grid {
                 ];
                 row.extend(change_cells(c.wins_over_expected, |v| signed(v, 1)));
                 row.extend(change_cells(c.projected_wins, |v| num(v, 1)));
+                row.extend(match c.first_place {
+                    Some(f) => [
+                        percent(f.before),
+                        percent(f.after),
+                        signed(100.0 * f.change, 1),
+                    ],
+                    None => ["-".into(), "-".into(), "-".into()],
+                });
                 row
             })
             .collect(),
@@ -188,6 +205,7 @@ fn outlook_grid(d: &Digest) -> Grid {
             "games left",
             "projected wins",
             "80% range",
+            "first-place chance",
         ]),
         rows: d
             .outlook
@@ -201,6 +219,7 @@ fn outlook_grid(d: &Digest) -> Grid {
                     o.remaining.to_string(),
                     num(o.projected_wins, 1),
                     format!("{}–{}", num(o.range.0, 0), num(o.range.1, 0)),
+                    o.first_place.map_or("-".to_string(), percent),
                 ]
             })
             .collect(),
@@ -257,6 +276,7 @@ const METHODS: &[&str] = &[
     "Expected win% comes from each club's {many} scored and allowed under the saved calibration (the model and parameters named below, fitted on the seasons it names). Wins vs expected is actual wins (ties as half) minus games decided times expected win%.",
     "The gap in SD divides wins vs expected by its noise, the square root of dispersion × games decided × p̂(1 − p̂): win records scatter around their scoring with less than coin-flip variance, and the calibration's dispersion says how much less. A club 2 SD or more from its scoring is marked in the luck table, and called beyond chance when its p-value, adjusted by Holm's method over the clubs shown, stays small. Over a short stretch most gaps are noise.",
     "The outlook adds to the wins so far the remaining games times the {one}-based win% regressed toward .500 by the calibration's regression games; its range comes from a beta-binomial distribution with the same centre, and the luck table gives the probability the range actually holds.",
+    "The first-place chance is the share of 10,000 simulated rest-of-seasons (the simulation of runcal outlook: each club's {one}-based strength drawn from its posterior, log5 matchups over the games left in the log, the league's home edge) in which the club finishes first in its group, ties sharing the credit. The projected wins and their range above come from the simpler projection of the luck table, which ignores who is left to play.",
     "Week-over-week columns repeat the same calculation with only the games played on or before the comparison date; nothing is stored between weeks.",
 ];
 

@@ -157,7 +157,7 @@ fn groups_text(g: &GroupSource) -> String {
     }
 }
 
-fn percent(p: f64) -> String {
+pub(crate) fn percent(p: f64) -> String {
     if p.is_finite() {
         format!("{:.1}%", 100.0 * p)
     } else {
