@@ -85,13 +85,17 @@ pub enum DataError {
     },
     #[error("{0}")]
     Rejected(Rejection),
+    /// `advice` starts with "; ": the closest header and the `--map` that takes it, or how to
+    /// name the column, and any hint the reader adds (a game log read as a table).
     #[error(
-        "{file}:1: no column for {role} (looked for headers {looked_for}); name it with --map {role}=HEADER"
+        "{file}:1: no column for {role} (looked for headers {looked_for}; the file has {headers}){advice}"
     )]
     MissingRole {
         file: String,
         role: &'static str,
         looked_for: String,
+        headers: String,
+        advice: String,
     },
     #[error(
         "{file}:1: columns '{first}' and '{second}' both look like {role}; choose one with --map {role}=HEADER"

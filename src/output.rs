@@ -372,6 +372,9 @@ impl Diagnostics {
         for w in &ds.warnings {
             self.warn(w);
         }
+        for n in &ds.notes {
+            self.note(n);
+        }
         if ds.unplayed_games > 0 {
             let no_scores = ds.unplayed_games - ds.after_as_of;
             let causes: Vec<String> = [

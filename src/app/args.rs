@@ -5,7 +5,7 @@ use clap::{Args, ValueEnum};
 
 use crate::app::values;
 
-use runcal::data::{self, Mapping, SeasonRange, TiePolicy, Weighting};
+use runcal::data::{self, Mapping, OtLosses, SeasonRange, TiePolicy, Weighting};
 use runcal::eras::{ChangeBy, WindowKind};
 use runcal::fit::bootstrap::{self, Resample};
 use runcal::fit::{Loss, backtest::Scheme};
@@ -21,9 +21,23 @@ pub struct InputArgs {
     /// The inputs are game logs (one row per game: date, home, away, home_score, away_score).
     #[arg(long)]
     pub games: bool,
-    /// Use column HEADER for ROLE (repeatable), e.g. --map runs_scored=R.
+    /// Use column HEADER for ROLE (repeatable), e.g. --map runs_scored=R. Without it, headers are
+    /// matched to roles with case, spaces and punctuation ignored (PointsFor = points_for).
     #[arg(long = "map", value_name = "ROLE=HEADER")]
     pub maps: Vec<Mapping>,
+    /// The season of every row, for files without a season column (a one-season table; a game
+    /// log whose season is not its dates' year). Without it such a table is read as one season,
+    /// numbered by the file's place on the command line (1, 2, …), with a note on stderr.
+    #[arg(long, value_name = "YEAR", allow_negative_numbers = true)]
+    pub season_is: Option<i32>,
+    /// Field delimiter of the inputs: , ; | or tab. Without it each file's is read from its
+    /// header line (and the first lines when the header allows several).
+    #[arg(long, value_name = "D", value_parser = data::input::parse_delimiter)]
+    pub delimiter: Option<u8>,
+    /// How an overtime/shootout-loss column (otl, ot_losses, sol, …) of a team-season table
+    /// counts.
+    #[arg(long, value_enum, default_value_t = OtLossesArg::Losses)]
+    pub ot_losses: OtLossesArg,
     /// Keep only these seasons: 2019 or 1980-2006.
     #[arg(long, value_name = "A-B")]
     pub seasons: Option<SeasonRange>,
@@ -57,6 +71,9 @@ impl InputArgs {
             league: self.league.clone(),
             skip_invalid: self.skip_invalid,
             max_rows: self.max_rows,
+            delimiter: self.delimiter,
+            season_is: self.season_is,
+            ot_losses: self.ot_losses.into(),
             ..data::LoadOptions::default()
         }
     }
@@ -106,6 +123,17 @@ macro_rules! value_mirror {
 }
 
 value_mirror!(TiesArg => TiePolicy { Half, Exclude });
+value_mirror!(
+    /// How overtime and shootout losses count.
+    OtLossesArg => OtLosses {
+        /// As losses (common practice for a hockey win%).
+        Losses,
+        /// As ties: half a win and half a loss under --ties half, left out under --ties exclude.
+        Half,
+        /// Left out of the record and of the games played.
+        LeaveOut,
+    }
+);
 value_mirror!(WeightArg => Weighting { None, Games });
 value_mirror!(UnitArg => Unit { Runs, Points, Goals });
 value_mirror!(

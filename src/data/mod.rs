@@ -86,6 +86,26 @@ pub struct LoadOptions {
     pub max_names: usize,
     /// Game logs: games of earlier dates the duplicate check holds in memory (see `gamelog`).
     pub max_held_games: usize,
+    /// The field delimiter of every input; `None`: each file's own, read from its first lines.
+    pub delimiter: Option<u8>,
+    /// The season of every row of an input without a season column (team-season tables; for game
+    /// logs, instead of the date's year). `None`: a table without one is one season, numbered by
+    /// the file's place in the list (1 for the first).
+    pub season_is: Option<i32>,
+    /// How an overtime-loss column of a team-season table counts.
+    pub ot_losses: OtLosses,
+}
+
+/// How overtime and shootout losses (a team-season table's `ot_losses` column) count.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum OtLosses {
+    /// As losses: the record is W, L + OTL, T (how hockey standings usually give a win%).
+    #[default]
+    Losses,
+    /// As ties: half a win and half a loss under `--ties half` (left out under `--ties exclude`).
+    Half,
+    /// Left out: the record is W, L, T, and those games are taken off the games played.
+    LeaveOut,
 }
 
 /// Most distinct team names of one load unless the caller says otherwise: far beyond any league's
@@ -109,6 +129,9 @@ impl Default for LoadOptions {
             max_field_bytes: input::DEFAULT_MAX_FIELD_BYTES,
             max_names: DEFAULT_MAX_NAMES,
             max_held_games: DEFAULT_MAX_HELD_GAMES,
+            delimiter: None,
+            season_is: None,
+            ot_losses: OtLosses::Losses,
         }
     }
 }
@@ -143,6 +166,8 @@ pub struct Dataset {
     pub rows: Vec<TeamSeason>,
     pub rejected: Vec<Rejection>,
     pub warnings: Vec<String>,
+    /// What the reader assumed, for the user to know (printed as notes, not warnings).
+    pub notes: Vec<String>,
     /// Rows left out by `--seasons` or `--league` (not errors).
     pub filtered_out: u64,
     /// Of `filtered_out`, the rows `--league` left out (the rest: `--seasons`).
@@ -308,9 +333,7 @@ pub(crate) fn parse_number(text: &str) -> Result<f64, String> {
     if t.is_empty() {
         return Err("expected a number, found an empty field".to_string());
     }
-    let v: f64 = t
-        .parse()
-        .map_err(|_| format!("expected a number, found '{t}'"))?;
+    let v: f64 = t.parse().map_err(|_| not_a_number(t))?;
     if !v.is_finite() {
         return Err(format!("expected a finite number, found '{t}'"));
     }
@@ -318,6 +341,33 @@ pub(crate) fn parse_number(text: &str) -> Result<f64, String> {
         return Err(format!("expected a non-negative number, found '{t}'"));
     }
     Ok(v)
+}
+
+/// Why `text` is no number, naming a decimal comma (`4,5`, `712,0`: a European locale's export)
+/// or a thousands separator (`1,234`, which could be either) rather than just refusing it.
+fn not_a_number(text: &str) -> String {
+    let numeric = text
+        .chars()
+        .all(|c| c.is_ascii_digit() || matches!(c, ',' | '.' | '-' | '+'));
+    if !numeric || !text.contains(',') || !text.chars().any(|c| c.is_ascii_digit()) {
+        return format!("expected a number, found '{text}'");
+    }
+    match text.split_once(',') {
+        Some((whole, part))
+            if !whole.is_empty()
+                && whole.chars().all(|c| c.is_ascii_digit() || c == '-')
+                && !part.is_empty()
+                && part.chars().all(|c| c.is_ascii_digit())
+                && part.len() != 3 =>
+        {
+            format!(
+                "decimal comma in '{text}': runcal wants a point ({whole}.{part}); export the file with a decimal point"
+            )
+        }
+        _ => format!(
+            "'{text}' holds a comma (a decimal comma or a thousands separator): runcal wants plain digits with a decimal point, as in 1234.5"
+        ),
+    }
 }
 
 /// Parse a run total: a non-negative finite number up to 10^15 (larger is no real total, and would
@@ -341,6 +391,29 @@ pub fn load(paths: &[String], game_logs: bool, opts: &LoadOptions) -> Result<Dat
             ));
         }
         season::load(paths, opts)
+    }
+}
+
+/// Refuse `--season-is` for a file that has a season column of its own (found by its aliases or
+/// named by `--map`): which of the two would be meant cannot be guessed.
+pub(crate) fn check_season_is(
+    file: &str,
+    map: &roles::ColumnMap,
+    season: usize,
+    opts: &LoadOptions,
+) -> Result<(), DataError> {
+    match (opts.season_is, map.header_of(season)) {
+        (Some(value), Some(header)) => Err(DataError::Rejected(Rejection {
+            at: Location {
+                file: file.to_string(),
+                line: Some(1),
+                column: Some(header.to_string()),
+            },
+            reason: format!(
+                "--season-is {value} is for files without a season column, and this file has one; drop --season-is to use the file's own seasons"
+            ),
+        })),
+        _ => Ok(()),
     }
 }
 

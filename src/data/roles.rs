@@ -1,4 +1,6 @@
-//! Column roles: header normalisation, generic trade aliases and `--map` overrides.
+//! Column roles: header keys, generic trade aliases, `--map` overrides, and the advice given when a
+//! role has no column. Every kind of input (team-season tables, game logs, schedules, teams files)
+//! matches its headers here, through its own table of [`RoleSpec`]s.
 
 use std::collections::HashMap;
 
@@ -24,12 +26,36 @@ pub fn normalise_header(raw: &str) -> String {
     out
 }
 
-/// A role a column can play, with the normalised headers that claim it without `--map`.
+/// The key headers are matched on: lower-cased letters and digits only, so that `PointsFor`,
+/// `Points For`, `points_for` and `POINTS-FOR` are one header (`pointsfor`). A `%` is kept: `W%`
+/// is a win percentage, not the wins column `W`. A UTF-8 byte-order mark is dropped too.
+pub fn header_key(raw: &str) -> String {
+    raw.chars()
+        .filter(|&c| c.is_alphanumeric() || c == '%')
+        .flat_map(char::to_lowercase)
+        .collect()
+}
+
+/// A role a column can play, with the headers that claim it without `--map` (compared by
+/// [`header_key`], so an alias is written once, in snake case).
 #[derive(Debug, Clone, Copy)]
 pub struct RoleSpec {
     pub name: &'static str,
     pub aliases: &'static [&'static str],
+    /// Weaker names, tried only when no alias is present: a file may carry a club's `name` or
+    /// `franchise` beside its `team` code, and that is no ambiguity.
+    pub fallbacks: &'static [&'static str],
     pub required: bool,
+}
+
+impl RoleSpec {
+    /// Every header key the role answers to: aliases first, then fallbacks.
+    fn keys(&self) -> impl Iterator<Item = String> + '_ {
+        self.aliases
+            .iter()
+            .chain(self.fallbacks)
+            .map(|a| header_key(a))
+    }
 }
 
 /// Which column plays each role in one file (indices into the record), in the order of the specs.
@@ -82,19 +108,21 @@ pub fn check_mappings(specs: &[RoleSpec], maps: &[Mapping]) -> Result<(), DataEr
         .map(|(_, m)| m)
         .collect();
     for (i, m) in effective.iter().enumerate() {
-        let header = normalise_header(&m.header);
+        let header = header_key(&m.header);
         if let Some(other) = effective[..i]
             .iter()
-            .find(|o| normalise_header(&o.header) == header)
+            .find(|o| header_key(&o.header) == header)
         {
             return Err(DataError::Usage(format!(
                 "--map {}={} and --map {}={} give one column two roles",
                 other.role, other.header, m.role, m.header
             )));
         }
+        // Only aliases: a fallback claims a column only when no alias is present, which depends
+        // on the file.
         let claimed_by = specs.iter().find(|s| {
             s.name != m.role
-                && s.aliases.contains(&header.as_str())
+                && s.aliases.iter().any(|a| header_key(a) == header)
                 && !effective.iter().any(|o| o.role == s.name)
         });
         if let Some(other) = claimed_by {
@@ -129,41 +157,52 @@ fn listed(headers: &[String]) -> String {
     text
 }
 
-/// Match a file's headers to roles. `--map` wins over aliases; two columns claiming one role is an error.
+/// Match a file's headers to roles, by [`header_key`]. `--map` wins over aliases, aliases over
+/// fallbacks; two columns claiming one role, or two headers with one key, are errors. A required
+/// role with no column is reported with the file's headers and the closest of them, if any.
 pub fn resolve(
     file: &str,
     headers: &[String],
     specs: &[RoleSpec],
     maps: &[Mapping],
 ) -> Result<ColumnMap, DataError> {
-    let normalised: Vec<String> = headers.iter().map(|h| normalise_header(h)).collect();
-    // A map from header to column keeps this linear in the number of columns.
-    let mut first_column: HashMap<&str, usize> = HashMap::with_capacity(normalised.len());
-    for (i, h) in normalised.iter().enumerate() {
-        if h.is_empty() {
+    let keys: Vec<String> = headers.iter().map(|h| header_key(h)).collect();
+    // A map from key to column keeps this linear in the number of columns.
+    let mut first_column: HashMap<&str, usize> = HashMap::with_capacity(keys.len());
+    for (i, k) in keys.iter().enumerate() {
+        if k.is_empty() {
             continue;
         }
-        if let Some(&j) = first_column.get(h.as_str()) {
+        if let Some(&j) = first_column.get(k.as_str()) {
+            let (a, b) = (
+                headers[j].trim_start_matches('\u{feff}'),
+                headers[i].as_str(),
+            );
+            let header = if a == b {
+                crate::data::input::shown(b)
+            } else {
+                // Different spellings of one name (`PointsFor`, `Points For`).
+                crate::data::input::shown(&format!("{a}' and '{b}"))
+            };
             return Err(DataError::DuplicateHeader {
                 file: file.to_string(),
-                header: crate::data::input::shown(&headers[i]),
+                header,
                 first: j + 1,
                 second: i + 1,
             });
         }
-        first_column.insert(h, i);
+        first_column.insert(k, i);
     }
-    let mapped_headers: Vec<(String, &str)> = maps
+    let mapped_keys: Vec<(String, &str)> = maps
         .iter()
-        .map(|m| (normalise_header(&m.header), m.role.as_str()))
+        .map(|m| (header_key(&m.header), m.role.as_str()))
         .collect();
     let mut index = vec![None; specs.len()];
+    let mut missing = None;
     for (r, spec) in specs.iter().enumerate() {
         if let Some(m) = maps.iter().rev().find(|m| m.role == spec.name) {
-            let wanted = normalise_header(&m.header);
-            let found = first_column.get(wanted.as_str()).copied();
-            match found {
-                Some(i) => index[r] = Some(i),
+            match first_column.get(header_key(&m.header).as_str()) {
+                Some(&i) => index[r] = Some(i),
                 None => {
                     return Err(DataError::MappedHeaderMissing {
                         file: file.to_string(),
@@ -175,40 +214,66 @@ pub fn resolve(
             }
             continue;
         }
-        let mut hit: Option<usize> = None;
         // Through the aliases (a handful each), not through every column.
-        let mut candidates: Vec<usize> = spec
-            .aliases
-            .iter()
-            .filter_map(|a| first_column.get(a).copied())
-            .collect();
-        candidates.sort_unstable();
-        for i in candidates {
-            let h = &normalised[i];
-            let mapped_elsewhere = mapped_headers
+        let claim = |names: &[&str]| -> Result<Option<usize>, DataError> {
+            let mut candidates: Vec<usize> = names
                 .iter()
-                .any(|(header, role)| *role != spec.name && header == h);
-            if mapped_elsewhere {
-                continue;
-            }
-            if let Some(prev) = hit {
-                return Err(DataError::AmbiguousRole {
+                .filter_map(|a| first_column.get(header_key(a).as_str()).copied())
+                .filter(|&i| {
+                    !mapped_keys
+                        .iter()
+                        .any(|(key, role)| *role != spec.name && *key == keys[i])
+                })
+                .collect();
+            candidates.sort_unstable();
+            candidates.dedup();
+            match candidates[..] {
+                [] => Ok(None),
+                [i] => Ok(Some(i)),
+                [first, second, ..] => Err(DataError::AmbiguousRole {
                     file: file.to_string(),
                     role: spec.name,
-                    first: crate::data::input::shown(&headers[prev]),
-                    second: crate::data::input::shown(&headers[i]),
-                });
+                    first: crate::data::input::shown(&headers[first]),
+                    second: crate::data::input::shown(&headers[second]),
+                }),
             }
-            hit = Some(i);
-        }
-        if hit.is_none() && spec.required {
-            return Err(DataError::MissingRole {
-                file: file.to_string(),
-                role: spec.name,
-                looked_for: spec.aliases.join(", "),
-            });
+        };
+        let hit = match claim(spec.aliases)? {
+            Some(i) => Some(i),
+            None => claim(spec.fallbacks)?,
+        };
+        if hit.is_none() && spec.required && missing.is_none() {
+            missing = Some(r);
         }
         index[r] = hit;
+    }
+    if let Some(r) = missing {
+        let spec = &specs[r];
+        let taken: Vec<usize> = index.iter().flatten().copied().collect();
+        let advice = match closest(&keys, &taken, spec) {
+            Some(i) => {
+                let header = headers[i].trim_start_matches('\u{feff}');
+                format!(
+                    "; did you mean '{}'? map it with --map {}",
+                    crate::data::input::shown(header),
+                    shell_word(&format!("{}={header}", spec.name))
+                )
+            }
+            None => format!("; name it with --map {}=HEADER", spec.name),
+        };
+        return Err(DataError::MissingRole {
+            file: file.to_string(),
+            role: spec.name,
+            looked_for: spec
+                .aliases
+                .iter()
+                .chain(spec.fallbacks)
+                .copied()
+                .collect::<Vec<_>>()
+                .join(", "),
+            headers: crate::data::input::shown(&listed(headers)),
+            advice,
+        });
     }
     Ok(ColumnMap {
         index,
@@ -217,6 +282,103 @@ pub fn resolve(
             .map(|h| h.trim_start_matches('\u{feff}').to_string())
             .collect(),
     })
+}
+
+/// Add a reader's hint to a missing-role error (a game log read as a table, or the reverse): it
+/// takes the place of the generic "name it with --map" advice. `hint` is asked only for that
+/// error, and its text starts with "; ".
+pub fn hint_missing(err: DataError, hint: impl FnOnce() -> Option<String>) -> DataError {
+    match err {
+        DataError::MissingRole {
+            file,
+            role,
+            looked_for,
+            headers,
+            mut advice,
+        } => {
+            // A file of the other kind needs the switch, not a --map.
+            if let Some(h) = hint() {
+                if advice.starts_with("; name it with") {
+                    advice = h;
+                } else {
+                    advice.push_str(&h);
+                }
+            }
+            DataError::MissingRole {
+                file,
+                role,
+                looked_for,
+                headers,
+                advice,
+            }
+        }
+        other => other,
+    }
+}
+
+/// How many of a file's columns are weighed for a "did you mean": the suggestion is a courtesy,
+/// and a file with 400,000 columns must not spend seconds on it.
+const SUGGESTION_COLUMNS: usize = 2_000;
+
+/// The column (not taken by another role) whose header is closest to one of the role's names:
+/// within a small edit distance, or an abbreviation of it (`PtsFor` for `points_for`). Names of
+/// one or two letters (`w`, `pa`) are left out: any short header would be near them.
+fn closest(keys: &[String], taken: &[usize], spec: &RoleSpec) -> Option<usize> {
+    let names: Vec<String> = spec.keys().filter(|k| k.chars().count() >= 3).collect();
+    let mut best: Option<(usize, usize)> = None;
+    for (i, key) in keys.iter().enumerate().take(SUGGESTION_COLUMNS) {
+        if taken.contains(&i) || key.chars().count() < 2 || key.len() > 64 {
+            continue;
+        }
+        for name in &names {
+            let distance = edit_distance(key, name);
+            let shorter = key.chars().count().min(name.chars().count());
+            let near = distance <= if shorter >= 6 { 2 } else { 1 };
+            if (near || abbreviates(key, name)) && best.is_none_or(|(d, _)| distance < d) {
+                best = Some((distance, i));
+            }
+        }
+    }
+    best.map(|(_, i)| i)
+}
+
+/// Whether `short` abbreviates `long`: at least three characters, the same first one, and every
+/// character found in `long` in order (`ptsfor` in `pointsfor`).
+fn abbreviates(short: &str, long: &str) -> bool {
+    let mut rest = long.chars();
+    short.chars().count() >= 3
+        && short.len() < long.len()
+        && short.chars().next() == long.chars().next()
+        && short.chars().all(|c| rest.any(|l| l == c))
+}
+
+/// Levenshtein distance (insertions, deletions and substitutions of characters).
+fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut row: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut diagonal = row[0];
+        row[0] = i + 1;
+        for (j, &cb) in b.iter().enumerate() {
+            let next = (diagonal + usize::from(ca != cb))
+                .min(row[j] + 1)
+                .min(row[j + 1] + 1);
+            diagonal = row[j + 1];
+            row[j + 1] = next;
+        }
+    }
+    row[b.len()]
+}
+
+/// A `--map` argument as it can be pasted into a shell: quoted when it holds anything but plain
+/// characters.
+fn shell_word(text: &str) -> String {
+    let plain = |c: char| c.is_ascii_alphanumeric() || "_-.=/:%+".contains(c);
+    if text.chars().all(plain) {
+        text.to_string()
+    } else {
+        format!("'{}'", text.replace('\'', r"'\''"))
+    }
 }
 
 #[cfg(test)]
@@ -229,6 +391,76 @@ mod tests {
         assert_eq!(normalise_header("\u{feff}W-L%"), "w_l");
         assert_eq!(normalise_header("R/G"), "r_g");
         assert_eq!(normalise_header("__a__b__"), "a_b");
+    }
+
+    #[test]
+    fn keys_ignore_case_spaces_and_punctuation() {
+        assert_eq!(header_key("PointsFor"), "pointsfor");
+        assert_eq!(header_key(" Points  For "), "pointsfor");
+        assert_eq!(header_key("\u{feff}points_for"), "pointsfor");
+        assert_eq!(header_key("Opp. Pts"), "opppts");
+        assert_eq!(header_key("W-L%"), "wl%");
+        assert_ne!(header_key("W%"), header_key("W"));
+    }
+
+    /// Every role table of the crate: no header key may claim two roles of one table, or a
+    /// column would silently go to whichever role comes first.
+    #[test]
+    fn no_key_claims_two_roles_of_one_table() {
+        let tables: [(&str, Vec<RoleSpec>); 3] = [
+            ("season", crate::data::season::ROLES.to_vec()),
+            ("gamelog", crate::data::gamelog::ROLES.to_vec()),
+            (
+                "gamelog+group",
+                crate::data::gamelog::ROLES
+                    .iter()
+                    .copied()
+                    .chain([RoleSpec {
+                        name: "group",
+                        aliases: &["group", "division", "conference", "div", "grp"],
+                        fallbacks: &[],
+                        required: false,
+                    }])
+                    .collect(),
+            ),
+        ];
+        for (table, specs) in tables {
+            let mut seen: HashMap<String, &str> = HashMap::new();
+            for spec in &specs {
+                for key in spec.keys() {
+                    if let Some(other) = seen.insert(key.clone(), spec.name) {
+                        panic!("{table}: '{key}' claims both {other} and {}", spec.name);
+                    }
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn suggestions_come_from_small_edits_and_abbreviations() {
+        // Levenshtein's textbook example: kitten -> sitting takes three edits.
+        assert_eq!(edit_distance("kitten", "sitting"), 3);
+        assert_eq!(edit_distance("", "abc"), 3);
+        assert_eq!(edit_distance("runsscored", "runsscored"), 0);
+        assert!(abbreviates("ptsfor", "pointsfor"));
+        assert!(abbreviates("ptsagst", "pointsagainst"));
+        assert!(!abbreviates("pf", "pointsfor"), "too short to be sure");
+        assert!(!abbreviates("forpts", "pointsfor"), "order matters");
+        assert!(
+            !abbreviates("tspfor", "pointsfor"),
+            "the first letter must agree"
+        );
+        let spec = crate::data::season::ROLES[6];
+        assert_eq!(spec.name, "runs_scored");
+        let keys = |hs: &[&str]| hs.iter().map(|h| header_key(h)).collect::<Vec<_>>();
+        assert_eq!(
+            closest(&keys(&["Club", "W", "PtsFor"]), &[], &spec),
+            Some(2)
+        );
+        assert_eq!(closest(&keys(&["Club", "RunScored"]), &[], &spec), Some(1));
+        // A taken column is never suggested, and short names suggest nothing.
+        assert_eq!(closest(&keys(&["PtsFor"]), &[0], &spec), None);
+        assert_eq!(closest(&keys(&["R", "X"]), &[], &spec), None);
     }
 
     #[test]
@@ -247,6 +479,7 @@ mod tests {
         let specs = [RoleSpec {
             name: "team",
             aliases: &["team"],
+            fallbacks: &[],
             required: true,
         }];
         match resolve("wide.csv", &headers, &specs, &[]) {

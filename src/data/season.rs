@@ -1,7 +1,7 @@
 //! Team-season tables: one row per team-season.
 
 use super::roles::{self, RoleSpec};
-use super::{Dataset, LoadOptions, TeamSeason, input, parse_count, parse_runs};
+use super::{Dataset, LoadOptions, OtLosses, TeamSeason, input, parse_count, parse_runs};
 use crate::error::{DataError, Location, Rejection};
 
 const SEASON: usize = 0;
@@ -13,42 +13,51 @@ const TIES: usize = 5;
 const RUNS_SCORED: usize = 6;
 const RUNS_ALLOWED: usize = 7;
 const GAMES: usize = 8;
+const OT_LOSSES: usize = 9;
 
 /// Decisions beyond the games played that a genuine record can hold: a forfeit counts in the
 /// standings without a game played. The Baseball Databank (tests/data) has 8 such team-seasons in
 /// 2,955, none more than 2 over (1884 CNU: 105 decisions in 103 games; 1979 CHA: 160 in 159).
 const FORFEIT_ALLOWANCE: u64 = 2;
 
-/// The roles of a team-season table and the generic trade aliases that claim them.
+/// The roles of a team-season table and the generic trade aliases that claim them (compared with
+/// case and punctuation ignored: `PointsFor`, `Points For` and `points_for` are one header).
 pub const ROLES: &[RoleSpec] = &[
     RoleSpec {
         name: "season",
-        aliases: &["season", "year", "yr", "season_id"],
-        required: true,
+        aliases: &["season", "year", "yr", "season_id", "year_id"],
+        fallbacks: &[],
+        // A file without one is one season (`LoadOptions::season_is`, or its place in the list).
+        required: false,
     },
     RoleSpec {
         name: "league",
-        aliases: &["league", "lg", "league_id", "conference"],
+        aliases: &["league", "lg", "league_id", "lg_id", "conference"],
+        fallbacks: &[],
         required: false,
     },
     RoleSpec {
         name: "team",
-        aliases: &["team", "club", "team_id", "team_name", "tm"],
+        aliases: &["team", "club", "team_id", "team_name", "tm", "squad"],
+        fallbacks: &["name", "franchise", "franchise_name", "club_name"],
         required: true,
     },
     RoleSpec {
         name: "wins",
         aliases: &["wins", "w", "won"],
+        fallbacks: &[],
         required: true,
     },
     RoleSpec {
         name: "losses",
         aliases: &["losses", "l", "lost"],
+        fallbacks: &[],
         required: true,
     },
     RoleSpec {
         name: "ties",
-        aliases: &["ties", "t", "draws", "d", "tied"],
+        aliases: &["ties", "t", "draws", "d", "tied", "drawn"],
+        fallbacks: &[],
         required: false,
     },
     RoleSpec {
@@ -63,7 +72,11 @@ pub const ROLES: &[RoleSpec] = &[
             "runs_for",
             "points_scored",
             "goals_scored",
+            "pts_for",
+            "pts_scored",
         ],
+        // Not `points` or `pts`: in hockey and football standings those are standings points.
+        fallbacks: &["runs", "goals", "scored", "for"],
         required: true,
     },
     RoleSpec {
@@ -78,12 +91,53 @@ pub const ROLES: &[RoleSpec] = &[
             "runs_against",
             "points_allowed",
             "goals_allowed",
+            "pts_against",
+            "pts_allowed",
+            "runs_conceded",
+            "points_conceded",
+            "goals_conceded",
+            "opponents_runs_scored",
+            "opponents_points_scored",
+            "opponents_goals_scored",
+            "opp_runs_scored",
+            "opp_points_scored",
+            "opp_goals_scored",
+            "opp_runs",
+            "opp_points",
+            "opp_pts",
+            "opp_goals",
+            "opp_score",
+            "opp_rs",
+            "opp_pf",
+            "opp_gf",
+            "opponent_runs",
+            "opponent_points",
+            "opponent_goals",
+            "opponents_runs",
+            "opponents_points",
+            "opponents_goals",
         ],
+        fallbacks: &["allowed", "against", "conceded"],
         required: true,
     },
     RoleSpec {
         name: "games",
-        aliases: &["games", "g", "gp", "games_played"],
+        aliases: &["games", "g", "gp", "games_played", "played", "pld"],
+        fallbacks: &[],
+        required: false,
+    },
+    RoleSpec {
+        name: "ot_losses",
+        aliases: &[
+            "ot_losses",
+            "otl",
+            "overtime_losses",
+            "ol",
+            "sol",
+            "shootout_losses",
+            "ot_shootout_losses",
+        ],
+        fallbacks: &[],
         required: false,
     },
 ];
@@ -91,22 +145,85 @@ pub const ROLES: &[RoleSpec] = &[
 pub fn load(paths: &[String], opts: &LoadOptions) -> Result<Dataset, DataError> {
     roles::check_mappings(ROLES, &opts.maps)?;
     let mut ds = Dataset::default();
-    for path in paths {
-        load_one(path, opts, &mut ds)?;
+    // Files without a season column (each is one season), and files with an overtime-loss one.
+    let mut one_season: Vec<(String, i32)> = Vec::new();
+    let mut with_ot_losses = false;
+    for (k, path) in paths.iter().enumerate() {
+        let place = i32::try_from(k + 1).unwrap_or(i32::MAX);
+        let read = load_one(path, place, opts, &mut ds)?;
+        if let Some(season) = read.season {
+            one_season.push((input::display_name(path), season));
+        }
+        with_ot_losses |= read.ot_losses;
+    }
+    if !one_season.is_empty() && opts.season_is.is_none() {
+        let files: Vec<String> = one_season.iter().map(|(f, _)| input::shown(f)).collect();
+        let numbers: Vec<String> = one_season.iter().map(|(_, s)| s.to_string()).collect();
+        ds.notes.push(if files.len() == 1 {
+            format!(
+                "{} has no season column: its rows are read as one season, season {}; give its year with --season-is YEAR",
+                files[0], numbers[0]
+            )
+        } else {
+            format!(
+                "{} have no season column: each file is read as one season, numbered by its place on the command line ({}); give one year for all of them with --season-is YEAR",
+                files.join(", "),
+                numbers.join(", ")
+            )
+        });
+    }
+    if opts.ot_losses != OtLosses::Losses && !with_ot_losses {
+        ds.warnings.push(format!(
+            "--ot-losses has nothing to act on: no input has an overtime-loss column (looked for {})",
+            ROLES[OT_LOSSES].aliases.join(", ")
+        ));
     }
     ds.finish(opts.skip_invalid)?;
     Ok(ds)
 }
 
-fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), DataError> {
+/// What one file was found to hold besides its rows.
+struct FileRead {
+    /// The season given to every row, when the file has no season column.
+    season: Option<i32>,
+    ot_losses: bool,
+}
+
+/// Read one file, number `place` (from 1) of the list.
+fn load_one(
+    path: &str,
+    place: i32,
+    opts: &LoadOptions,
+    ds: &mut Dataset,
+) -> Result<FileRead, DataError> {
     let file = input::display_name(path);
-    let reader = input::open(path, opts.max_line_bytes, opts.max_field_bytes)?;
     // Fields are trimmed in `parse_row`, not by csv, so that `record_line` sees every newline.
-    let mut rdr = csv::ReaderBuilder::new()
-        .flexible(false)
-        .from_reader(reader);
+    let mut rdr = input::csv_reader(
+        path,
+        opts.max_line_bytes,
+        opts.max_field_bytes,
+        opts.delimiter,
+    )?;
     let headers = input::read_headers(&mut rdr, &file)?;
-    let map = roles::resolve(&file, &headers, ROLES, &opts.maps)?;
+    let map = roles::resolve(&file, &headers, ROLES, &opts.maps).map_err(|e| {
+        roles::hint_missing(e, || {
+            roles::resolve(&file, &headers, super::gamelog::ROLES, &[])
+                .is_ok()
+                .then(|| {
+                    "; the headers look like a game log (one row per game): add --games".to_string()
+                })
+        })
+    })?;
+    super::check_season_is(&file, &map, SEASON, opts)?;
+    let reading = Reading {
+        file: &file,
+        map: &map,
+        season: match map.index[SEASON] {
+            Some(_) => None,
+            None => Some(opts.season_is.unwrap_or(place)),
+        },
+        ot_losses: opts.ot_losses,
+    };
     let mut record = csv::ByteRecord::new();
     let mut count: u64 = 0;
     loop {
@@ -130,8 +247,7 @@ fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), Data
             ds.reject(opts.skip_invalid, input::row_error(&file, e, line, &record))?;
             continue;
         }
-        let line = Some(line);
-        match parse_row(&file, line, &map, &record) {
+        match reading.row(Some(line), &record) {
             Ok(row) => match opts.left_out_by(row.season, row.league.as_deref()) {
                 None => ds.rows.push(row),
                 Some(filter) => {
@@ -142,15 +258,33 @@ fn load_one(path: &str, opts: &LoadOptions, ds: &mut Dataset) -> Result<(), Data
             Err(r) => ds.reject(opts.skip_invalid, r)?,
         }
     }
-    Ok(())
+    Ok(FileRead {
+        season: reading.season,
+        ot_losses: map.index[OT_LOSSES].is_some(),
+    })
+}
+
+/// How the rows of one file are read.
+struct Reading<'a> {
+    file: &'a str,
+    map: &'a roles::ColumnMap,
+    /// Every row's season, when the file has no season column.
+    season: Option<i32>,
+    ot_losses: OtLosses,
+}
+
+impl Reading<'_> {
+    fn row(&self, line: Option<u64>, record: &csv::ByteRecord) -> Result<TeamSeason, Rejection> {
+        parse_row(self, line, record)
+    }
 }
 
 fn parse_row(
-    file: &str,
+    reading: &Reading<'_>,
     line: Option<u64>,
-    map: &roles::ColumnMap,
     record: &csv::ByteRecord,
 ) -> Result<TeamSeason, Rejection> {
+    let (file, map) = (reading.file, reading.map);
     let fail = |role: usize, reason: String| Rejection {
         at: Location {
             file: file.to_string(),
@@ -174,16 +308,21 @@ fn parse_row(
     let count = |role: usize| -> Result<u64, Rejection> {
         parse_count(required(role)?).map_err(|e| fail(role, input::shown(&e)))
     };
-    let season_text = required(SEASON)?;
-    let season: i32 = season_text.parse().map_err(|_| {
-        fail(
-            SEASON,
-            format!(
-                "expected a season (a whole number), found '{}'",
-                input::shown(season_text)
-            ),
-        )
-    })?;
+    let season: i32 = match reading.season {
+        Some(season) => season,
+        None => {
+            let season_text = required(SEASON)?;
+            season_text.parse().map_err(|_| {
+                fail(
+                    SEASON,
+                    format!(
+                        "expected a season (a whole number), found '{}'",
+                        input::shown(season_text)
+                    ),
+                )
+            })?
+        }
+    };
     let league = text(LEAGUE)?.filter(|s| !s.is_empty()).map(str::to_string);
     let team = required(TEAM)?;
     if team.is_empty() {
@@ -196,16 +335,28 @@ fn parse_row(
     };
     let wins = count(WINS)?;
     let losses = count(LOSSES)?;
-    let ties = match map.index[TIES] {
-        Some(_) => {
-            let t = required(TIES)?;
-            if t.is_empty() {
-                0
-            } else {
-                parse_count(t).map_err(|e| fail(TIES, input::shown(&e)))?
+    // Ties and overtime losses may be left empty (none), as standings often print them.
+    let optional_count = |role: usize| -> Result<u64, Rejection> {
+        match map.index[role] {
+            Some(_) => {
+                let t = required(role)?;
+                if t.is_empty() {
+                    Ok(0)
+                } else {
+                    parse_count(t).map_err(|e| fail(role, input::shown(&e)))
+                }
             }
+            None => Ok(0),
         }
-        None => 0,
+    };
+    let ties = optional_count(TIES)?;
+    let ot_losses = optional_count(OT_LOSSES)?;
+    // Everything the record holds, whatever the policy: the games column must cover it.
+    let results = wins + losses + ties + ot_losses;
+    let (losses, ties, ot_left_out) = match reading.ot_losses {
+        OtLosses::Losses => (losses + ot_losses, ties, 0),
+        OtLosses::Half => (losses, ties + ot_losses, 0),
+        OtLosses::LeaveOut => (losses, ties, ot_losses),
     };
     let runs = |role: usize| -> Result<f64, Rejection> {
         parse_runs(required(role)?).map_err(|e| fail(role, input::shown(&e)))
@@ -213,10 +364,12 @@ fn parse_row(
     let (runs_scored, runs_allowed) = (runs(RUNS_SCORED)?, runs(RUNS_ALLOWED)?);
     let decisions = wins + losses + ties;
     if decisions == 0 {
-        return Err(fail(
-            WINS,
-            "W+L+T is 0: the team has no games to judge".to_string(),
-        ));
+        let reason = if ot_left_out > 0 {
+            "W+L+T is 0 once the overtime losses are left out (--ot-losses leave-out): the team has no games to judge"
+        } else {
+            "W+L+T is 0: the team has no games to judge"
+        };
+        return Err(fail(WINS, reason.to_string()));
     }
     if runs_scored == 0.0 && runs_allowed == 0.0 {
         return Err(fail(
@@ -224,21 +377,31 @@ fn parse_row(
             "runs scored and runs allowed are both 0".to_string(),
         ));
     }
+    let record = if map.index[OT_LOSSES].is_some() {
+        "W+L+T+OTL"
+    } else {
+        "W+L+T"
+    };
     let games = match map.index[GAMES] {
         Some(_) => {
             let g = count(GAMES)?;
             if g == 0 {
-                return Err(fail(GAMES, format!("games is 0 but W+L+T is {decisions}")));
+                return Err(fail(GAMES, format!("games is 0 but {record} is {results}")));
             }
-            if decisions > g + FORFEIT_ALLOWANCE {
+            if results > g + FORFEIT_ALLOWANCE {
                 return Err(fail(
                     GAMES,
                     format!(
-                        "W+L+T is {decisions}, more decisions than the {g} games played (by more than the {FORFEIT_ALLOWANCE} that forfeits explain)"
+                        "{record} is {results}, more decisions than the {g} games played (by more than the {FORFEIT_ALLOWANCE} that forfeits explain)"
                     ),
                 ));
             }
-            g
+            if ot_left_out == 0 {
+                g
+            } else {
+                // Games left out leave the games played too (their runs cannot be told apart).
+                g.saturating_sub(ot_left_out).max(decisions)
+            }
         }
         None => decisions,
     };

@@ -321,9 +321,21 @@ struct TeamJson<'a> {
 
 #[derive(Serialize)]
 #[serde(untagged)]
-enum SourceJson<'a> {
+pub(crate) enum SourceJson<'a> {
     Profile { profile: &'a str },
     Named(&'static str),
+}
+
+impl<'a> SourceJson<'a> {
+    /// `{"profile": path}`, or the source's one word.
+    pub(crate) fn of(s: &'a ModelSource) -> SourceJson<'a> {
+        match s {
+            ModelSource::Profile(p) => SourceJson::Profile { profile: p },
+            ModelSource::Fitted => SourceJson::Named("fitted"),
+            ModelSource::Given => SourceJson::Named("given"),
+            ModelSource::Published => SourceJson::Named("published"),
+        }
+    }
 }
 
 #[derive(Serialize)]
@@ -406,12 +418,7 @@ pub fn luck_json(r: &LuckReport) -> LuckJson<'_> {
         caution: crate::CAUTION,
         model: r.model.kind.name(),
         params: named(r.model.kind.param_names(), &r.model.params),
-        source: match &r.source {
-            ModelSource::Profile(p) => SourceJson::Profile { profile: p },
-            ModelSource::Fitted => SourceJson::Named("fitted"),
-            ModelSource::Given => SourceJson::Named("given"),
-            ModelSource::Published => SourceJson::Named("published"),
-        },
+        source: SourceJson::of(&r.source),
         rows_used: r.rows_used,
         rows_rejected: r.rows_rejected,
         as_of: r.as_of.map(|d| d.to_string()),

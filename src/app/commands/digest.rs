@@ -2,7 +2,7 @@
 
 use clap::ValueEnum;
 
-use crate::app::args::{InputArgs, TiesArg, UnitArg};
+use crate::app::args::{InputArgs, OtLossesArg, TiesArg, UnitArg};
 use runcal::data::{Mapping, gamelog::Date};
 use runcal::digest::{self, Calibration};
 use runcal::error::Error;
@@ -50,6 +50,13 @@ pub struct Args {
     /// Keep only this league (case-insensitive).
     #[arg(long, value_name = "X")]
     pub league: Option<String>,
+    /// The season of every game, for a log without a season column whose season is not its
+    /// dates' year (a winter league).
+    #[arg(long, value_name = "YEAR", allow_negative_numbers = true)]
+    pub season_is: Option<i32>,
+    /// Field delimiter of the logs: , ; | or tab (default: read from each file's header line).
+    #[arg(long, value_name = "D", value_parser = runcal::data::input::parse_delimiter)]
+    pub delimiter: Option<u8>,
     /// Go on past bad rows: list each on stderr and count it as rejected.
     #[arg(long)]
     pub skip_invalid: bool,
@@ -164,6 +171,9 @@ fn input_of(args: &Args, profile: &Profile) -> InputArgs {
         skip_invalid: args.skip_invalid,
         max_rows: 50_000_000,
         unit: args.unit,
+        season_is: args.season_is,
+        delimiter: args.delimiter,
+        ot_losses: OtLossesArg::Losses,
     }
     .as_in_profile(profile)
 }

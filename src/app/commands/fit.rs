@@ -64,18 +64,17 @@ pub struct Args {
 }
 
 pub fn run(args: &Args) -> Result<u8, Error> {
-    super::caution_for_csv(&args.output);
-    let diag = super::diagnostics(&args.output);
-    let files = &args.input.files;
-    super::guard_outputs(
+    let (diag, files) = super::begin(
+        &args.output,
+        &args.input.files,
+        &[],
         &[
-            ("--output", args.output.output.as_ref()),
             ("--save-profile", args.save_profile.as_ref()),
             ("--plot", args.plot.as_ref()),
             ("--comparison-csv", args.comparison_csv.as_ref()),
         ],
-        files,
     )?;
+    let files = &files;
     let (ds, table) = super::load(&args.input, None, &diag)?;
     super::warn_unbalanced(&args.input, &ds, &diag);
     let models = super::parse_models(&args.model)?;

@@ -61,16 +61,13 @@ pub struct Args {
 }
 
 pub fn run(args: &Args) -> Result<u8, Error> {
-    super::caution_for_csv(&args.output);
-    let diag = super::diagnostics(&args.output);
-    let files = &super::reads(&args.input.files, &[args.profile.as_ref()]);
-    super::guard_outputs(
-        &[
-            ("--output", args.output.output.as_ref()),
-            ("--plot", args.plot.as_ref()),
-        ],
-        files,
+    let (diag, files) = super::begin(
+        &args.output,
+        &args.input.files,
+        &[args.profile.as_ref()],
+        &[("--plot", args.plot.as_ref())],
     )?;
+    let files = &files;
     let profile = args.profile.as_deref().map(Profile::load).transpose()?;
     // The calibration's own definition of win% applies to the new data.
     let input = match &profile {

@@ -129,6 +129,23 @@ pub fn reads(files: &[String], others: &[Option<&String>]) -> Vec<String> {
         .collect()
 }
 
+/// Every report command's first steps: the CSV caution, the diagnostics, the files the run reads
+/// (`files` then `others`), and the refusal of outputs over any of them (`--output` is added to
+/// `outputs`). Returns the diagnostics and the files read.
+pub fn begin(
+    out: &OutputArgs,
+    files: &[String],
+    others: &[Option<&String>],
+    outputs: &[(&str, Option<&String>)],
+) -> Result<(Diagnostics, Vec<String>), Error> {
+    caution_for_csv(out);
+    let read = reads(files, others);
+    let mut all = vec![("--output", out.output.as_ref())];
+    all.extend_from_slice(outputs);
+    guard_outputs(&all, &read)?;
+    Ok((diagnostics(out), read))
+}
+
 /// Refuse before any work when an output would overwrite a file the run reads, or another output.
 /// Each output comes with the option that names it.
 pub fn guard_outputs(outputs: &[(&str, Option<&String>)], reads: &[String]) -> Result<(), Error> {

@@ -72,18 +72,14 @@ pub struct Args {
 }
 
 pub fn run(args: &Args) -> Result<u8, Error> {
-    super::caution_for_csv(&args.output);
-    let diag = super::diagnostics(&args.output);
     let logs = &args.input.files;
     let mut others: Vec<Option<&String>> = args.schedule.iter().map(Some).collect();
     others.extend([args.groups.as_ref(), args.profile.as_ref()]);
-    let read = super::reads(logs, &others);
-    super::guard_outputs(
-        &[
-            ("--output", args.output.output.as_ref()),
-            ("--plot", args.plot.as_ref()),
-        ],
-        &read,
+    let (diag, read) = super::begin(
+        &args.output,
+        logs,
+        &others,
+        &[("--plot", args.plot.as_ref())],
     )?;
     read.iter().try_for_each(|p| schedule::require_regular(p))?;
     let settings = Settings {

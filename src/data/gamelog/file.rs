@@ -7,7 +7,7 @@ use super::names::Names;
 use super::pipeline::{self, Batch};
 use super::row::RowReader;
 use super::standings::FileRecords;
-use super::{DATE, GAME, ROLES};
+use super::{DATE, GAME, ROLES, SEASON};
 use crate::error::{DataError, Location, Rejection};
 
 /// What one file added up to besides its records.
@@ -64,13 +64,26 @@ fn aggregate_on(
     threaded: bool,
 ) -> Result<FileTotals, Stop> {
     let file = pass.files[file_no].as_str();
-    let reader = input::open(path, pass.opts.max_line_bytes, pass.opts.max_field_bytes)?;
-    let mut rdr = csv::ReaderBuilder::new()
-        .flexible(false)
-        .buffer_capacity(1 << 16)
-        .from_reader(reader);
+    let opts = pass.opts;
+    // The delimiter is chosen here, once per file, from the first lines.
+    let mut rdr = input::csv_reader(
+        path,
+        opts.max_line_bytes,
+        opts.max_field_bytes,
+        opts.delimiter,
+    )?;
     let headers = input::read_headers(&mut rdr, file)?;
-    let map = roles::resolve(file, &headers, ROLES, &pass.opts.maps)?;
+    let map = roles::resolve(file, &headers, ROLES, &opts.maps).map_err(|e| {
+        roles::hint_missing(e, || {
+            roles::resolve(file, &headers, crate::data::season::ROLES, &[])
+                .is_ok()
+                .then(|| {
+                    "; the headers look like a team-season table (one row per team): drop --games"
+                        .to_string()
+                })
+        })
+    })?;
+    crate::data::check_season_is(file, &map, SEASON, opts)?;
     let mut totals = pipeline::stream(&mut rdr, threaded, |batches, spare| {
         sum_records(file, file_no as u32, &map, pass, batches, spare)
     })?;
@@ -94,7 +107,7 @@ fn sum_records(
         names,
         duplicates,
     } = pass;
-    let mut rows = RowReader::new(file, map);
+    let mut rows = RowReader::new(file, map, opts.season_is);
     let mut totals = FileTotals::default();
     let mut count: u64 = 0;
     let reject = |totals: &mut FileTotals, r: Rejection| -> Result<(), DataError> {

@@ -43,12 +43,14 @@ const GAME: usize = 7;
 pub const ROLES: &[RoleSpec] = &[
     RoleSpec {
         name: "date",
-        aliases: &["date", "game_date", "day"],
+        aliases: &["date", "game_date", "day", "match_date"],
+        fallbacks: &[],
         required: true,
     },
     RoleSpec {
         name: "home",
-        aliases: &["home", "home_team", "host"],
+        aliases: &["home", "home_team", "host", "home_club"],
+        fallbacks: &[],
         required: true,
     },
     RoleSpec {
@@ -60,7 +62,10 @@ pub const ROLES: &[RoleSpec] = &[
             "visitors",
             "road",
             "visiting_team",
+            "visitor_team",
+            "away_club",
         ],
+        fallbacks: &[],
         required: true,
     },
     RoleSpec {
@@ -72,6 +77,7 @@ pub const ROLES: &[RoleSpec] = &[
             "home_goals",
             "home_pts",
         ],
+        fallbacks: &[],
         required: true,
     },
     RoleSpec {
@@ -83,22 +89,30 @@ pub const ROLES: &[RoleSpec] = &[
             "away_goals",
             "away_pts",
             "visitor_score",
+            "visitor_runs",
+            "visitor_points",
+            "visitor_goals",
+            "visitor_pts",
         ],
+        fallbacks: &[],
         required: true,
     },
     RoleSpec {
         name: "season",
-        aliases: &["season", "year"],
+        aliases: &["season", "year", "season_id", "year_id"],
+        fallbacks: &[],
         required: false,
     },
     RoleSpec {
         name: "league",
-        aliases: &["league", "lg"],
+        aliases: &["league", "lg", "league_id", "lg_id"],
+        fallbacks: &[],
         required: false,
     },
     RoleSpec {
         name: "game",
-        aliases: &["game", "game_number", "game_no"],
+        aliases: &["game", "game_number", "game_no", "game_num"],
+        fallbacks: &[],
         required: false,
     },
 ];

@@ -29,6 +29,8 @@ pub(super) struct RowReader<'a> {
     /// The last date's text (as two words) and value: a day's games share one date, so most rows
     /// skip the parse.
     last_date: Option<((u64, u64), Date, u32)>,
+    /// `--season-is`: every game's season, for a log without a season column.
+    season_is: Option<i32>,
 }
 
 fn rejection(file: &str, map: &ColumnMap, line: u64, role: usize, reason: String) -> Rejection {
@@ -57,11 +59,12 @@ fn digits(b: &[u8]) -> Option<u64> {
 const SEASON_DATE_GAP_YEARS: i32 = 1;
 
 impl<'a> RowReader<'a> {
-    pub(super) fn new(file: &'a str, map: &'a ColumnMap) -> Self {
+    pub(super) fn new(file: &'a str, map: &'a ColumnMap, season_is: Option<i32>) -> Self {
         RowReader {
             file,
             map,
             last_date: None,
+            season_is,
         }
     }
 
@@ -109,7 +112,7 @@ impl<'a> RowReader<'a> {
             Some(_) => self
                 .season(field(SEASON), date)
                 .map_err(|e| fail(SEASON, e))?,
-            None => i32::from(date.year()),
+            None => self.season_is.unwrap_or_else(|| i32::from(date.year())),
         };
         let count = |role: usize| -> Result<u64, Rejection> {
             let b = field(role);

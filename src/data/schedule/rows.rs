@@ -18,6 +18,7 @@ pub(super) const GROUP: usize = 8;
 const GROUP_SPEC: RoleSpec = RoleSpec {
     name: "group",
     aliases: &["group", "division", "conference", "div", "grp"],
+    fallbacks: &[],
     required: false,
 };
 
@@ -44,11 +45,13 @@ pub(super) const TEAM_ROLES: &[RoleSpec] = &[
     RoleSpec {
         name: "team",
         aliases: &["team", "club", "team_name", "name"],
+        fallbacks: &[],
         required: true,
     },
     RoleSpec {
         name: "group",
         aliases: &["group", "division", "conference", "league", "div", "grp"],
+        fallbacks: &[],
         required: true,
     },
 ];
@@ -99,7 +102,7 @@ pub(super) fn duplicate(at: &Location, first: &Location, row: &Row, map: &Column
 /// Stream one file's rows. Rows the loader would reject are errors here too, or with
 /// `--skip-invalid` left out of a log (the loader has listed them already) — never of a schedule.
 /// A CSV reader over one input, past its header, with the header's roles resolved.
-pub(super) type CsvReader = csv::Reader<input::LineLimit<Box<dyn std::io::Read + Send>>>;
+pub(super) use input::CsvReader;
 
 pub(super) fn open_csv(
     path: &str,
@@ -108,10 +111,12 @@ pub(super) fn open_csv(
     opts: &LoadOptions,
 ) -> Result<(String, CsvReader, ColumnMap), DataError> {
     let file = input::display_name(path);
-    let reader = input::open(path, opts.max_line_bytes, opts.max_field_bytes)?;
-    let mut rdr = csv::ReaderBuilder::new()
-        .flexible(false)
-        .from_reader(reader);
+    let mut rdr = input::csv_reader(
+        path,
+        opts.max_line_bytes,
+        opts.max_field_bytes,
+        opts.delimiter,
+    )?;
     let headers = input::read_headers(&mut rdr, &file)?;
     let map = roles::resolve(&file, &headers, specs, maps)?;
     Ok((file, rdr, map))
@@ -125,6 +130,7 @@ pub(super) fn for_each_row(
     mut each: impl FnMut(&ColumnMap, Location, Row) -> Result<(), DataError>,
 ) -> Result<(), DataError> {
     let (file, mut rdr, map) = open_csv(path, specs, &opts.maps, opts)?;
+    crate::data::check_season_is(&file, &map, SEASON, opts)?;
     let mut record = csv::ByteRecord::new();
     let mut count: u64 = 0;
     let skip = is_log && opts.skip_invalid;
@@ -157,7 +163,7 @@ pub(super) fn for_each_row(
             line: Some(line),
             column: None,
         };
-        match parse_row(&map, &record, &at, is_log) {
+        match parse_row(&map, &record, &at, is_log, opts.season_is) {
             Ok(row) => each(&map, at, row)?,
             Err(_) if skip => {}
             Err(r) => return Err(DataError::Rejected(r)),
@@ -170,6 +176,7 @@ fn parse_row(
     record: &csv::ByteRecord,
     at: &Location,
     is_log: bool,
+    season_is: Option<i32>,
 ) -> Result<Row, Rejection> {
     let field = |role: usize| {
         map.index[role]
@@ -206,7 +213,7 @@ fn parse_row(
                 ),
             )
         })?,
-        None => i32::from(date.year()),
+        None => season_is.unwrap_or_else(|| i32::from(date.year())),
     };
     let game = match map.index[GAME] {
         Some(_) => {

@@ -1,9 +1,8 @@
 //! `runcal outlook`: table, JSON (`runcal.outlook/1`), CSV and the final-wins chart. Layout only:
 //! the clubs arrive ranked and every number computed.
 
+pub mod json;
 pub mod svg;
-
-use serde_json::{Value, json};
 
 use super::csv::{cell, finish, safe, write_err};
 use super::table::{folded_table, model_label};
@@ -39,7 +38,7 @@ impl Report for OutlookReport {
         table(self)
     }
     fn json(&self) -> Result<Vec<u8>, Error> {
-        super::json::to_bytes(&json(self))
+        super::json::to_bytes(&json::render(self))
     }
     fn csv(&self) -> Result<Vec<u8>, Error> {
         csv(self)
@@ -47,11 +46,6 @@ impl Report for OutlookReport {
     fn svg(&self) -> Option<Result<Vec<u8>, Error>> {
         Some(svg::render(self).map(String::into_bytes))
     }
-}
-
-/// Non-finite numbers become null (JSON has no NaN).
-fn number(v: f64) -> Value {
-    if v.is_finite() { json!(v) } else { Value::Null }
 }
 
 impl OutlookReport {
@@ -240,74 +234,6 @@ strength: win% against an average club at a neutral site; opponents: mean streng
     out.push_str(crate::outlook::CAUTION);
     out.push('\n');
     out
-}
-
-fn percentile(p: &crate::outlook::Percentile) -> Value {
-    json!({"wins": p.wins, "level": number(p.level)})
-}
-
-pub fn json(r: &OutlookReport) -> Value {
-    let o = &r.outlook;
-    let clubs: Vec<Value> = r
-        .clubs()
-        .map(|c| {
-            json!({
-                "group": c.group, "team": c.team, "wins": c.wins, "losses": c.losses, "ties": c.ties,
-                "games_left": c.games_left, "strength": number(c.strength),
-                "strength_sd": number(c.strength_sd),
-                "schedule_strength": c.schedule_strength.map_or(Value::Null, number),
-                "mean_final_wins": number(c.mean_final_wins),
-                "percentiles": {"p10": percentile(&c.low), "p50": percentile(&c.median), "p90": percentile(&c.high)},
-                "range_mass": number(c.range_mass),
-                "chance_first": number(c.chance_first),
-                "chance_target": c.chance_target.map_or(Value::Null, number),
-                "final_wins_distribution": {"from": c.wins, "shares": c.distribution.iter().map(|&v| number(v)).collect::<Vec<_>>()},
-            })
-        })
-        .collect();
-    let s = &o.shrinkage;
-    let (shrink_source, actual) = match s.source {
-        ShrinkageSource::Profile => ("profile", Value::Null),
-        ShrinkageSource::FromActualRecord { actual_games } => {
-            ("from_actual_record", number(actual_games))
-        }
-        ShrinkageSource::Given => ("given", Value::Null),
-    };
-    let (prior_source, earlier_games) = match o.home.prior_source {
-        HomePrior::EarlierSeasons { games } => ("earlier_seasons", number(games)),
-        HomePrior::CommonPractice => ("common_practice", Value::Null),
-    };
-    let c = &r.counts;
-    json!({
-        "schema": SCHEMA,
-        "season": r.season,
-        "as_of": r.as_of.map(|d| d.to_string()),
-        "last_played": r.last_played.map(|d| d.to_string()),
-        "model": r.model.kind.name(),
-        "params": super::json::params_of(&r.model),
-        "source": match &r.source { ModelSource::Profile(p) => json!({"profile": p}), ModelSource::Fitted => json!("fitted"), ModelSource::Published => json!("published"), ModelSource::Given => json!("given") },
-        "rows_used": r.rows_used,
-        "rows_rejected": r.rows_rejected,
-        "simulations": o.settings.simulations,
-        "seed": o.settings.seed,
-        "strength_draw": o.settings.draw_strength,
-        "games_left": o.games_left,
-        "shrinkage": {"run_based_games": number(s.run_based_games), "dispersion": number(s.dispersion),
-                      "source": shrink_source, "actual_record_games": actual},
-        "home": {"win_pct": number(o.home_win_pct),
-                 "this_season": {"wins": number(o.home.observed.wins), "games": number(o.home.observed.games)},
-                 "prior": {"win_pct": number(o.home.prior_win_pct), "games": number(o.home.prior_games),
-                           "source": prior_source, "earlier_games": earlier_games}},
-        "schedule": {"log_unplayed": c.log_unplayed, "log_after_as_of": c.log_after_as_of,
-                     "scheduled": c.scheduled, "scheduled_in_log": c.scheduled_in_log,
-                     "postponed": c.postponed, "earlier_unplayed": c.earlier_unplayed},
-        "groups_from": match &r.groups_from { GroupSource::File(p) => json!({"file": p}), GroupSource::LogColumn(h) => json!({"column": h}), GroupSource::Single => Value::Null },
-        "range_level": crate::outlook::RANGE_LEVEL,
-        "target_wins": o.settings.target_wins,
-        "ties_for_first": "credit split equally",
-        "clubs": clubs,
-        "caution": crate::outlook::CAUTION,
-    })
 }
 
 pub fn csv(r: &OutlookReport) -> Result<Vec<u8>, Error> {
