@@ -11,10 +11,10 @@ if [ -z "$chromium_bin" ]; then
   exit 2
 fi
 
-cargo build --quiet
+cargo build --release --quiet
 mkdir -p target/render-page
 page="$PWD/target/render-page/meridian-week.html"
-./target/debug/runcal digest demo-data/meridian-2026-games.csv \
+./target/release/runcal digest demo-data/meridian-2026-games.csv \
   --profile demo-data/meridian-profile.json --as-of 2026-07-15 \
   --groups demo-data/meridian-divisions.csv --output "$page"
 
