@@ -4,7 +4,7 @@
 Every block that opens with ```console and one `$ runcal ...` line (no other `$` line) is rerun
 from the repository root with target/release/runcal, and the lines after the command are replaced
 with the command's standard output. Blocks with several commands, or commands that write into /tmp
-first, and JSON excerpts are left alone: refresh those by hand. Run `cargo build --release` first.
+first, commands that write files, and JSON excerpts are left alone: refresh those by hand. Run `cargo build --release` first.
 
     python3 demo-data/refresh-readme.py          # rewrite README.md in place
     python3 demo-data/refresh-readme.py --check  # exit 1 if any block is stale
@@ -24,6 +24,9 @@ BLOCK = re.compile(r"```console\n(\$ runcal [^\n]*)\n(.*?)```", re.S)
 def run(command: str) -> str | None:
     argv = shlex.split(command[2:])
     if any(tok in ("|", ";", "&&", ">") or "/tmp/" in tok for tok in argv):
+        return None
+    # A command that writes files would write them into the repository: refresh it by hand.
+    if any(tok in ("--output", "-o", "--out", "--plot", "--save-profile", "--comparison-csv") for tok in argv):
         return None
     # JSON blocks show an excerpt of the output; refresh them by hand.
     if "json" in argv and "--format" in argv:

@@ -198,13 +198,7 @@ fn load_one(
 ) -> Result<FileRead, DataError> {
     let file = input::display_name(path);
     // Fields are trimmed in `parse_row`, not by csv, so that `record_line` sees every newline.
-    let mut rdr = input::csv_reader(
-        path,
-        opts.max_line_bytes,
-        opts.max_field_bytes,
-        opts.delimiter,
-    )?;
-    let headers = input::read_headers(&mut rdr, &file)?;
+    let (mut rdr, headers) = input::open_with_headers(path, &file, opts)?;
     let map = roles::resolve(&file, &headers, ROLES, &opts.maps).map_err(|e| {
         roles::hint_missing(e, || {
             roles::resolve(&file, &headers, super::gamelog::ROLES, &[])
@@ -235,13 +229,7 @@ fn load_one(
             Err(e) if input::is_row_error(&e) => Some(e),
             Err(e) => return Err(input::csv_error(&file, e)),
         };
-        count += 1;
-        if count > opts.max_rows {
-            return Err(DataError::TooManyRows {
-                file,
-                limit: opts.max_rows,
-            });
-        }
+        input::count_row(&mut count, &file, opts)?;
         let line = input::record_line(start, rdr.position().line(), &record);
         if let Some(e) = row_error {
             ds.reject(opts.skip_invalid, input::row_error(&file, e, line, &record))?;

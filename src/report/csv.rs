@@ -246,17 +246,11 @@ pub fn check(r: &super::CheckReport) -> Result<Vec<u8>, Error> {
 /// The simulated team-seasons, as a team-season table runcal reads back.
 pub fn simulate(r: &super::SimulateReport<'_>) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record([
-        "season",
-        "league",
-        "team",
-        "games",
-        "wins",
-        "losses",
-        "runs_scored",
-        "runs_allowed",
-    ])
-    .map_err(write_err)?;
+    // The per-team columns less ties (simulated games have none) and win%.
+    let header = TEAM_HEADER
+        .iter()
+        .filter(|h| !matches!(**h, "ties" | "win_pct"));
+    w.write_record(header).map_err(write_err)?;
     let league = safe(&r.design.league);
     for row in &r.rows {
         w.write_record([

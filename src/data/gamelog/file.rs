@@ -66,13 +66,7 @@ fn aggregate_on(
     let file = pass.files[file_no].as_str();
     let opts = pass.opts;
     // The delimiter is chosen here, once per file, from the first lines.
-    let mut rdr = input::csv_reader(
-        path,
-        opts.max_line_bytes,
-        opts.max_field_bytes,
-        opts.delimiter,
-    )?;
-    let headers = input::read_headers(&mut rdr, file)?;
+    let (mut rdr, headers) = input::open_with_headers(path, file, opts)?;
     let map = roles::resolve(file, &headers, ROLES, &opts.maps).map_err(|e| {
         roles::hint_missing(e, || {
             roles::resolve(file, &headers, crate::data::season::ROLES, &[])
@@ -123,14 +117,7 @@ fn sum_records(
             let (start, end) = (batch.records[k].start, batch.records[k].end);
             let row_error = batch.records[k].error.take();
             let record = batch.record(k);
-            count += 1;
-            if count > opts.max_rows {
-                return Err(DataError::TooManyRows {
-                    file: file.to_string(),
-                    limit: opts.max_rows,
-                }
-                .into());
-            }
+            input::count_row(&mut count, file, opts)?;
             // A record that ends one line after reading began has no line break inside and starts
             // where reading began: what `record_line` returns then, without scanning the record.
             let line = if end == start + 1 {

@@ -111,13 +111,7 @@ pub(super) fn open_csv(
     opts: &LoadOptions,
 ) -> Result<(String, CsvReader, ColumnMap), DataError> {
     let file = input::display_name(path);
-    let mut rdr = input::csv_reader(
-        path,
-        opts.max_line_bytes,
-        opts.max_field_bytes,
-        opts.delimiter,
-    )?;
-    let headers = input::read_headers(&mut rdr, &file)?;
+    let (rdr, headers) = input::open_with_headers(path, &file, opts)?;
     let map = roles::resolve(&file, &headers, specs, maps)?;
     Ok((file, rdr, map))
 }
@@ -151,13 +145,7 @@ pub(super) fn for_each_row(
             }
             Err(e) => return Err(input::csv_error(&file, e)),
         }
-        count += 1;
-        if count > opts.max_rows {
-            return Err(DataError::TooManyRows {
-                file,
-                limit: opts.max_rows,
-            });
-        }
+        input::count_row(&mut count, &file, opts)?;
         let at = Location {
             file: file.clone(),
             line: Some(line),
