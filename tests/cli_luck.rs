@@ -679,3 +679,16 @@ fn the_unit_word_labels_tables_charts_and_the_document_but_not_json_keys() {
     assert!(page.contains("point diff/game"), "luck table");
     assert!(!page.contains("runs scored and allowed"));
 }
+
+#[test]
+fn an_as_of_before_the_first_game_names_as_of_not_the_filters() {
+    let out = runcal()
+        .args(["luck", "--games", DEMO_GAMES, "--as-of", "2026-03-01"])
+        .assert()
+        .code(2)
+        .get_output()
+        .clone();
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert!(err.contains("were after --as-of"), "{err}");
+    assert!(!err.contains("--seasons/--league"), "{err}");
+}

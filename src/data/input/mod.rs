@@ -199,8 +199,7 @@ impl<R: Read> Read for LineLimit<R> {
             if !self.after_cr
                 && n <= self.limit
                 && matches!(self.field, FieldState::Start | FieldState::Unquoted)
-                && !buf[..n].contains(&b'\r')
-                && !buf[..n].contains(&b'"')
+                && memchr::memchr2(b'\r', b'"', &buf[..n]).is_none()
             {
                 let chunk = &buf[..n];
                 let last = chunk[n - 1];
