@@ -501,4 +501,13 @@ fn a_bad_groups_file_is_an_error_naming_it() {
         .output()
         .unwrap();
     assert_eq!(out.status.code(), Some(2));
+    // A groups file that leaves clubs out (and names a hostile one) is an error, as in `outlook`.
+    let partial = dir.path().join("partial.csv");
+    std::fs::write(&partial, "team,group\n<script>x</script>,A\n").unwrap();
+    let out = digest("2026-07-15", &["--groups", partial.to_str().unwrap()])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("has no group in"), "{err}");
 }

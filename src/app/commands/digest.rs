@@ -222,7 +222,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         let mut snap = digest::snapshot(&ds, &table, &profile, date)?;
         // The first-place chances: `runcal outlook` on the same log as of the same date.
         let plan = runcal::data::schedule::read_plan(&args.files, &[], Some(date), &opts)?;
-        let outlook = runcal::outlook::for_season(
+        let (outlook, _, _) = runcal::outlook::for_season(
             &ds.rows,
             &table,
             &profile.model(),
@@ -231,11 +231,8 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             None,
             Some(&profile),
             &settings,
-        );
-        match outlook {
-            Ok((o, _, _)) => snap.first_place = Some(digest::first_place_chances(&o)),
-            Err(e) => diag.warn(&format!("no first-place chances as of {date}: {e}")),
-        }
+        )?;
+        snap.first_place = Some(digest::first_place_chances(&outlook));
         Ok(Some(snap))
     };
     let current = snapshot(args.as_of, &diag)?.ok_or_else(|| {
