@@ -692,3 +692,45 @@ fn an_as_of_before_the_first_game_names_as_of_not_the_filters() {
     assert!(err.contains("were after --as-of"), "{err}");
     assert!(!err.contains("--seasons/--league"), "{err}");
 }
+
+#[test]
+fn wording_says_team_seasons_and_has_no_doubled_parentheses() {
+    let luck = demo_luck()
+        .args(["--as-of", "2026-06-01"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let luck = String::from_utf8(luck).unwrap();
+    assert!(
+        luck.contains("over the 14 team-seasons shown with a z"),
+        "{luck}"
+    );
+    assert!(!luck.contains(" teams shown"), "{luck}");
+    let fitted = runcal()
+        .args(["luck", "--games", DEMO_GAMES, "--as-of", "2026-06-01"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    // The heading names the source once, without parentheses inside parentheses (the footnote's
+    // formula has its own nested ones).
+    let fitted = String::from_utf8(fitted).unwrap();
+    let heading = fitted.lines().next().unwrap();
+    assert!(
+        !heading.contains("((") && !heading.contains("))"),
+        "{heading}"
+    );
+    let fit = runcal()
+        .args(["fit", &common::demo_path(), "--model", "pythagenpat"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let fit = String::from_utf8(fit).unwrap();
+    assert!(fit.contains("implied exponent span"), "{fit}");
+    assert!(!fit.contains("exponent range"), "{fit}");
+}
