@@ -104,7 +104,7 @@ pub fn choose_model(
             ModelSource::Given,
         ));
     }
-    let rpg = table.runs_total / table.games.iter().sum::<f64>().max(1.0);
+    let rpg = table.average_rpg();
     let fitted_on = format!("{} team-seasons", table.len());
     let published = |why: String| {
         let mut c = chosen(
@@ -299,6 +299,12 @@ fn noise(
 /// of baseball eras differ by less than that).
 pub const ENVIRONMENT_FACTOR: f64 = 1.5;
 
+/// Whether `a` and `b` differ by more than [`ENVIRONMENT_FACTOR`] either way (or either is not a
+/// usable number).
+fn far_apart(a: f64, b: f64) -> bool {
+    !(a / b <= ENVIRONMENT_FACTOR && b / a <= ENVIRONMENT_FACTOR)
+}
+
 /// Ways the data at hand sit far from the run environment the profile was fitted in: runs per game
 /// (both teams), a given season length against the profile's, or teams that have already played
 /// more games than the profile's season. Empty when the profile suits the data.
@@ -313,7 +319,7 @@ pub fn environment_mismatch(
     let fitted = profile.average_rpg;
     if games > 0 && fitted.is_finite() && fitted > 0.0 {
         let rpg = runs / games as f64;
-        if !(rpg / fitted <= ENVIRONMENT_FACTOR && fitted / rpg <= ENVIRONMENT_FACTOR) {
+        if far_apart(rpg, fitted) {
             out.push(format!(
                 "these data score {rpg:.2} runs per game (both teams), the profile was fitted at {fitted:.2}: its calibration may not apply here"
             ));
@@ -322,7 +328,7 @@ pub fn environment_mismatch(
     let saved = profile.season_games as f64;
     if let Some(n) = season_games
         && saved > 0.0
-        && !(n as f64 / saved <= ENVIRONMENT_FACTOR && saved / n as f64 <= ENVIRONMENT_FACTOR)
+        && far_apart(n as f64, saved)
     {
         out.push(format!(
             "--season-games {n} is far from the profile's season of {} games: its regression toward .500 was estimated on seasons of that length",

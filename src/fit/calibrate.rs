@@ -97,6 +97,19 @@ pub struct Calibration {
     pub warnings: Vec<String>,
 }
 
+impl Calibration {
+    /// A fitted model's QAIC distance from the best, from the model comparison (`None` for a
+    /// reference, or without a comparison).
+    pub fn delta_qaic(&self, f: &ModelFit) -> Option<f64> {
+        let standings = self.comparison.as_ref()?;
+        standings
+            .standings
+            .iter()
+            .find(|s| f.fitted && s.label == f.model.kind.name())
+            .and_then(|s| s.delta_qaic)
+    }
+}
+
 /// A fit needs at least its parameter count plus this many team-seasons to say anything about a
 /// league (our choice of "a handful"): fewer, and the fitted values mostly follow noise.
 pub const WEAK_FIT_MARGIN: usize = 5;

@@ -122,6 +122,15 @@ impl ModelFit {
     pub fn loss_value(&self) -> f64 {
         self.loss.of(&self.metrics)
     }
+
+    /// The lowest and highest exponent the model implies across the rows: `None` for the fixed
+    /// exponent, whose one value is its parameter.
+    pub fn implied_span(&self) -> Option<(f64, f64)> {
+        match self.model.kind {
+            crate::model::ModelKind::Pythagorean => None,
+            _ => self.exponent_range,
+        }
+    }
 }
 
 /// Everything measured about a model on a table: metrics, runs per win, exponent range, and for a

@@ -139,7 +139,6 @@ pub fn fit_comparison(r: &FitReport) -> Result<Vec<u8>, Error> {
     } else {
         c.ranking.clone()
     };
-    let standings = c.comparison.as_ref().map_or(&[][..], |x| &x.standings[..]);
     for (pos, &i) in order.iter().enumerate() {
         let f = &c.fits[i];
         let mut row = vec![
@@ -170,14 +169,8 @@ pub fn fit_comparison(r: &FitReport) -> Result<Vec<u8>, Error> {
             row.push(cell(ci.map(|c| c.1)));
         }
         let m = &f.metrics;
-        let implied = match f.model.kind {
-            crate::model::ModelKind::Pythagorean => None,
-            _ => f.exponent_range,
-        };
-        let delta_qaic = standings
-            .iter()
-            .find(|s| f.fitted && s.label == f.model.kind.name())
-            .and_then(|s| s.delta_qaic);
+        let implied = f.implied_span();
+        let delta_qaic = c.delta_qaic(f);
         row.extend([
             cell(f.intervals.as_ref().map(|iv| iv.level)),
             cell(Some(m.logloss)),

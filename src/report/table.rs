@@ -123,10 +123,8 @@ fn bootstrap_cell(f: &ModelFit) -> String {
 }
 
 fn exponent_range(f: &ModelFit) -> String {
-    match (f.model.kind, f.exponent_range) {
-        (crate::model::ModelKind::Pythagorean, _) | (_, None) => "-".to_string(),
-        (_, Some((lo, hi))) => format!("{lo:.2}–{hi:.2}"),
-    }
+    f.implied_span()
+        .map_or("-".to_string(), |(lo, hi)| format!("{lo:.2}–{hi:.2}"))
 }
 
 pub fn fit(r: &FitReport) -> String {
@@ -197,14 +195,7 @@ fn comparison(r: &FitReport) -> String {
     let mut t = new_table(&header, 4);
     let c = &r.calibration;
     let ranked: Vec<&ModelFit> = c.ranking.iter().map(|&i| &c.fits[i]).collect();
-    let delta_qaic = |f: &ModelFit| {
-        let standings = c.comparison.as_ref().map_or(&[][..], |x| &x.standings[..]);
-        standings
-            .iter()
-            .find(|s| f.fitted && s.label == f.model.kind.name())
-            .and_then(|s| s.delta_qaic)
-            .map_or("-".to_string(), |d| num(d, 2))
-    };
+    let delta_qaic = |f: &ModelFit| c.delta_qaic(f).map_or("-".to_string(), |d| num(d, 2));
     for (i, f) in ranked.iter().enumerate() {
         let status = if f.fitted {
             "fitted".to_string()

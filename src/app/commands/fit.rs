@@ -134,10 +134,8 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     };
     super::write_chart(&report, args.plot.as_deref(), files, &diag)?;
     if let Some(path) = &args.comparison_csv {
-        let inputs: Vec<&str> = files.iter().map(String::as_str).collect();
         let bytes = runcal::report::csv::fit_comparison(&report)?;
-        runcal::output::emit(Some(path), &inputs, &bytes)?;
-        diag.note(&format!("wrote {path}"));
+        super::write_beside(path, &bytes, files, &diag)?;
     }
     super::emit(&report, &args.output, files)?;
     Ok(0)

@@ -87,10 +87,13 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         regress_games: args.regress_games,
         season_games: args.season_games,
     };
-    if let Some(p) = &profile {
-        let found = applied::environment_mismatch(p, &ds.rows, args.season_games);
-        super::mismatch(&found, args.environment.fail, &diag)?;
-    }
+    super::check_environment(
+        profile.as_ref(),
+        &ds.rows,
+        args.season_games,
+        args.environment.fail,
+        &diag,
+    )?;
     let settings = applied::luck_settings(&chosen, profile.as_ref(), &over, &ds.rows, &table)?;
     super::say(&diag, &settings.notes, &settings.warnings);
     let lines = luck::luck_lines(

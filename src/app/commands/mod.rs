@@ -93,8 +93,19 @@ pub fn write_chart(
     let (Some(path), Some(svg)) = (path, report.svg()) else {
         return Ok(());
     };
+    write_beside(path, &svg?, inputs, diag)
+}
+
+/// Write an output file besides the main output (a chart, a second CSV), never over an input, and
+/// say so.
+pub fn write_beside(
+    path: &str,
+    bytes: &[u8],
+    inputs: &[String],
+    diag: &Diagnostics,
+) -> Result<(), Error> {
     let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
-    runcal::output::emit(Some(path), &inputs, &svg?)?;
+    runcal::output::emit(Some(path), &inputs, bytes)?;
     diag.note(&format!("wrote {path}"));
     Ok(())
 }
@@ -173,6 +184,25 @@ pub fn mismatch(found: &[String], fail: bool, diag: &Diagnostics) -> Result<(), 
     }
     found.iter().for_each(|w| diag.warn(w));
     Ok(())
+}
+
+/// With a profile: how far these rows sit from its run environment, warned about or (with
+/// `--fail-on-mismatch`) an error.
+pub fn check_environment(
+    profile: Option<&runcal::profile::Profile>,
+    rows: &[runcal::data::TeamSeason],
+    season_games: Option<u64>,
+    fail: bool,
+    diag: &Diagnostics,
+) -> Result<(), Error> {
+    match profile {
+        Some(p) => mismatch(
+            &runcal::applied::environment_mismatch(p, rows, season_games),
+            fail,
+            diag,
+        ),
+        None => Ok(()),
+    }
 }
 
 /// The first model `--model` names.

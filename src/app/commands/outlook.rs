@@ -110,10 +110,13 @@ pub fn run(args: &Args) -> Result<u8, Error> {
         &table,
     )?;
     super::say(&diag, &chosen.notes, &chosen.warnings);
-    if let Some(p) = &profile {
-        let found = runcal::applied::environment_mismatch(p, &ds.rows, None);
-        super::mismatch(&found, args.environment.fail, &diag)?;
-    }
+    super::check_environment(
+        profile.as_ref(),
+        &ds.rows,
+        None,
+        args.environment.fail,
+        &diag,
+    )?;
     let (model, source) = (chosen.model, chosen.source);
     let (result, groups_from, clubs) = outlook::for_season(
         &ds.rows,
