@@ -528,14 +528,12 @@ fn a_single_rule_gate_passes_in_the_singular() {
     // --no-drift with one error bound: one rule, and the verdict says "the one rule".
     let (dir, profile) = setup();
     let new = simulate(dir.path(), "same.csv", "1.9", "21");
-    let out = runcal()
-        .args(["check", "--no-drift", "--max-mae", "0.5", "--profile"])
-        .arg(&profile)
-        .arg(&new)
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(
+        runcal()
+            .args(["check", "--no-drift", "--max-mae", "0.5", "--profile"])
+            .arg(&profile)
+            .arg(&new),
+    );
     let all = format!(
         "{}{}",
         String::from_utf8_lossy(&out.stdout),

@@ -54,13 +54,11 @@ fn mixed_season_lengths_weight_by_games_by_default_and_say_so() {
     // MAE and RMSE weight by games, matching reference.py's games-weighted optima (scipy).
     let r = reference();
     for loss in ["mae", "rmse"] {
-        let out = common::databank_cmd("fit")
-            .args(["--seasons", "1980-2006", "--loss", loss, "--no-references"])
-            .args(["--format", "json"])
-            .assert()
-            .success()
-            .get_output()
-            .clone();
+        let out = common::ok(
+            common::databank_cmd("fit")
+                .args(["--seasons", "1980-2006", "--loss", loss, "--no-references"])
+                .args(["--format", "json"]),
+        );
         let err = String::from_utf8(out.stderr).unwrap();
         assert!(
             err.contains("season lengths differ")
@@ -78,12 +76,7 @@ fn mixed_season_lengths_weight_by_games_by_default_and_say_so() {
         );
     }
     // One season length (the demo league's 140 games): equal weights, no note.
-    let out = runcal()
-        .args(["fit", &common::demo_path()])
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(runcal().args(["fit", &common::demo_path()]));
     let err = String::from_utf8(out.stderr).unwrap();
     assert!(!err.contains("season lengths differ"), "{err}");
 }
@@ -349,12 +342,13 @@ fn plot_writes_an_svg_with_the_optimum_marked() {
 fn a_fit_on_a_handful_of_team_seasons_warns_that_it_is_not_informative() {
     // 1 parameter + 5 needs 6 team-seasons; the Databank's AL of 1901 has 8.
     let few = |seasons: &str, league: &str| {
-        let out = common::databank_cmd("fit")
-            .args(["--seasons", seasons, "--league", league, "--no-references"])
-            .assert()
-            .success()
-            .get_output()
-            .clone();
+        let out = common::ok(common::databank_cmd("fit").args([
+            "--seasons",
+            seasons,
+            "--league",
+            league,
+            "--no-references",
+        ]));
         String::from_utf8(out.stderr).unwrap()
     };
     let err = few("1901", "AL");
@@ -367,13 +361,7 @@ fn a_fit_on_a_handful_of_team_seasons_warns_that_it_is_not_informative() {
         "season,team,wins,losses,runs_scored,runs_allowed\n2026,Aster,80,60,700,650\n",
     )
     .unwrap();
-    let out = runcal()
-        .args(["fit", "--no-references"])
-        .arg(&one)
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(runcal().args(["fit", "--no-references"]).arg(&one));
     let err = String::from_utf8(out.stderr).unwrap();
     assert!(
         err.contains("fitted on one team-season") && err.contains("not informative"),
@@ -383,20 +371,18 @@ fn a_fit_on_a_handful_of_team_seasons_warns_that_it_is_not_informative() {
 
 #[test]
 fn grouped_fit_shows_bootstrap_intervals_in_the_table() {
-    let out = runcal()
-        .args(["fit", &common::demo_path(), "--by", "season"])
-        .args([
-            "--seasons",
-            "2024-2025",
-            "--bootstrap",
-            "200",
-            "--seed",
-            "7",
-        ])
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(
+        runcal()
+            .args(["fit", &common::demo_path(), "--by", "season"])
+            .args([
+                "--seasons",
+                "2024-2025",
+                "--bootstrap",
+                "200",
+                "--seed",
+                "7",
+            ]),
+    );
     let table = String::from_utf8(out.stdout).unwrap();
     assert!(table.contains("95% bootstrap interval"), "{table}");
     // Each group's interval in the table is the one its JSON reports.

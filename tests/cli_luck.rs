@@ -447,12 +447,7 @@ fn demo_luck() -> Command {
 #[test]
 fn a_finished_season_shows_final_records_and_no_projection() {
     // The demo log's last game is 18 August; every club has played its 140 games by then.
-    let out = demo_luck()
-        .args(["--as-of", "2026-12-01"])
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(demo_luck().args(["--as-of", "2026-12-01"]));
     let stdout = String::from_utf8(out.stdout).unwrap();
     assert!(
         stdout.contains("games through 2026-08-18 (as of 2026-12-01)"),
@@ -514,13 +509,11 @@ fn high_scoring_log(dir: &std::path::Path) -> std::path::PathBuf {
 fn a_profile_far_from_the_data_warns_and_fails_on_request() {
     let dir = tempfile::tempdir().unwrap();
     let log = high_scoring_log(dir.path());
-    let out = runcal()
-        .args(["luck", "--games", "--profile", DEMO_PROFILE])
-        .arg(&log)
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(
+        runcal()
+            .args(["luck", "--games", "--profile", DEMO_PROFILE])
+            .arg(&log),
+    );
     let err = String::from_utf8(out.stderr).unwrap();
     // Both run environments are named: the data's and the profile's 9.2.
     assert!(err.contains("warning:") && err.contains("9.2"), "{err}");
@@ -551,12 +544,7 @@ fn a_profile_far_from_the_data_warns_and_fails_on_request() {
 #[test]
 fn a_partial_season_too_short_to_fit_falls_back_to_the_published_exponent() {
     // One game per club on opening day: no exponent can be fitted with any precision.
-    let out = runcal()
-        .args(["luck", "--games", DEMO_GAMES, "--as-of", "2026-04-01"])
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(runcal().args(["luck", "--games", DEMO_GAMES, "--as-of", "2026-04-01"]));
     let stdout = String::from_utf8(out.stdout).unwrap();
     let err = String::from_utf8(out.stderr).unwrap();
     assert!(
@@ -577,12 +565,7 @@ fn a_partial_season_too_short_to_fit_falls_back_to_the_published_exponent() {
 
 #[test]
 fn without_a_profile_the_heading_says_the_fit_is_on_the_data_at_hand() {
-    let out = runcal()
-        .args(["luck", "--games", DEMO_GAMES, "--as-of", "2026-06-01"])
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(runcal().args(["luck", "--games", DEMO_GAMES, "--as-of", "2026-06-01"]));
     let first = String::from_utf8(out.stdout).unwrap();
     let first = first.lines().next().unwrap().to_string();
     assert!(
@@ -595,23 +578,27 @@ fn without_a_profile_the_heading_says_the_fit_is_on_the_data_at_hand() {
 #[test]
 fn constant_columns_are_hoisted_only_when_the_shown_rows_share_them() {
     // 2019-2020, both leagues: neither season nor league is constant over the ranking.
-    let out = common::databank_cmd("luck")
-        .args(["--seasons", "2019-2020", "--top", "2", "-q"])
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(common::databank_cmd("luck").args([
+        "--seasons",
+        "2019-2020",
+        "--top",
+        "2",
+        "-q",
+    ]));
     let stdout = String::from_utf8(out.stdout).unwrap();
     assert!(!stdout.contains("season: "), "{stdout}");
     assert!(!stdout.contains("league: "), "{stdout}");
     assert!(stdout.contains("4 of 60 team-seasons shown"), "{stdout}");
     // One season of one league: both are hoisted above the table.
-    let out = common::databank_cmd("luck")
-        .args(["--seasons", "2019", "--league", "AL", "--top", "2", "-q"])
-        .assert()
-        .success()
-        .get_output()
-        .clone();
+    let out = common::ok(common::databank_cmd("luck").args([
+        "--seasons",
+        "2019",
+        "--league",
+        "AL",
+        "--top",
+        "2",
+        "-q",
+    ]));
     let stdout = String::from_utf8(out.stdout).unwrap();
     assert!(stdout.contains("season: 2019"), "{stdout}");
     assert!(stdout.contains("league: AL"), "{stdout}");

@@ -12,6 +12,11 @@ pub fn runcal() -> assert_cmd::Command {
     c
 }
 
+/// Run a command that must succeed; its output (stdout and stderr).
+pub fn ok(cmd: &mut assert_cmd::Command) -> std::process::Output {
+    cmd.assert().success().get_output().clone()
+}
+
 pub fn repo() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
 }
