@@ -2,6 +2,7 @@
 //! arrays (no copies of the table); resample `b` draws from its own ChaCha stream, so results are
 //! identical for a seed whatever the number of threads.
 
+pub mod pythagenport;
 pub mod refit;
 pub mod series;
 
@@ -17,6 +18,7 @@ use super::{Intervals, ModelFit};
 use crate::data::{Table, TeamSeason};
 use crate::error::FitError;
 use crate::model::ModelKind;
+use pythagenport::PortSeries;
 use refit::Prepared;
 use series::PythagoreanSeries;
 
@@ -198,10 +200,16 @@ impl Scratch {
         self.drawn.truncate(k);
     }
 
-    /// PythagenPat, linear and Pythagenport log-loss: see [`refit`].
+    /// PythagenPat and linear log-loss: see [`refit`].
     fn refit(&mut self, t: &Table, prepared: &Prepared) -> Option<(Vec<f64>, Metrics)> {
         self.compact();
         prepared.refit(t, &self.counts, &self.drawn)
+    }
+
+    /// Pythagenport log-loss: see [`pythagenport`].
+    fn pythagenport(&mut self, t: &Table, series: &PortSeries) -> Option<(Vec<f64>, Metrics)> {
+        self.compact();
+        series.refit(t, &self.counts, &self.drawn, &mut self.predictions)
     }
 
     /// The Pythagorean log-loss: the general path's numbers from one pass of exp over the rows
@@ -280,7 +288,11 @@ pub fn run(
     let taylor_series = (kind == ModelKind::Pythagorean && fit.loss == Loss::Logloss)
         .then(|| PythagoreanSeries::new(t, start[0]))
         .flatten();
-    // The other log-loss fits: per-row series and exact Newton passes; see `refit`.
+    // Pythagenport's log-loss: a two-variable series; see `pythagenport`.
+    let port_series = (kind == ModelKind::Pythagenport && fit.loss == Loss::Logloss)
+        .then(|| PortSeries::new(t, &start))
+        .flatten();
+    // PythagenPat's and the linear model's: per-row series and exact Newton passes; see `refit`.
     let prepared = (fit.loss == Loss::Logloss)
         .then(|| Prepared::new(t, kind, &start))
         .flatten();
@@ -295,9 +307,12 @@ pub fn run(
                 b,
                 &mut s.counts,
             );
-            let out = match &taylor_series {
-                Some(series) => s.pythagorean(t, series),
-                None => prepared.as_ref().and_then(|p| s.refit(t, p)),
+            let out = if let Some(series) = &taylor_series {
+                s.pythagorean(t, series)
+            } else if let Some(series) = &port_series {
+                s.pythagenport(t, series)
+            } else {
+                prepared.as_ref().and_then(|p| s.refit(t, p))
             }
             .or_else(|| s.general(t, kind, fit.loss, &start));
             if let Some(progress) = opts.progress {
@@ -417,13 +432,25 @@ mod tests {
             ] {
                 let full = crate::fit::fit_model(&t, kind, Loss::Logloss).unwrap();
                 let start = full.model.params;
-                let prepared = Prepared::new(&t, kind, &start).unwrap();
+                let prepared = Prepared::new(&t, kind, &start);
+                let port = (kind == ModelKind::Pythagenport)
+                    .then(|| PortSeries::new(&t, &start))
+                    .flatten();
+                assert!(
+                    prepared.is_some() != port.is_some(),
+                    "{kind}: one fast path"
+                );
                 let mut s = Scratch::default();
                 let mut by_newton = 0; // resamples the fast path kept
                 for b in 0..60 {
                     weights(t.len(), &season_rows, resample, 3, b, &mut s.counts);
                     let (gp, gm) = s.general(&t, kind, Loss::Logloss, &start).unwrap();
-                    if let Some((fp, fm)) = s.refit(&t, &prepared) {
+                    let fast = match (&prepared, &port) {
+                        (Some(p), _) => s.refit(&t, p),
+                        (_, Some(p)) => s.pythagenport(&t, p),
+                        _ => unreachable!(),
+                    };
+                    if let Some((fp, fm)) = fast {
                         by_newton += 1;
                         // The same optimum within 1e-9 (the general path polishes its
                         // derivative-free optimum with Newton; Pythagenport's is Newton from the

@@ -1,16 +1,16 @@
-//! The bootstrap fast path of PythagenPat, Pythagenport and the linear model's log-loss: per-row
+//! The bootstrap fast path of the one-parameter models' log-loss (PythagenPat's z, the linear
+//! model's runs per win r; Pythagenport has its own in [`super::pythagenport`]): per-row
 //! quantities computed once at the full-data optimum θ0, from which a resample's optimum is
 //! predicted by sums over its rows (weighted by their integer counts, no exp or ln), then checked
 //! and finished by exact Newton steps, each ONE pass over the drawn rows that accumulates the
 //! gradient, the Hessian and every metric together.
 //!
-//! One-parameter models (PythagenPat's z, the linear runs per win r): each row's score
+//! Each row's score
 //! ∂nll/∂θ at θ0 + d as a Taylor polynomial in d of order [`ORDER`], from the power series of the
 //! row's p̂(θ0 + d) (PythagenPat: p̂ = σ(l·x0·exp(d·ln RPG)) by the recurrence p̂' = p̂(1 − p̂)·η';
 //! linear: p̂ = 0.5 + D/(r0 + d), geometric), through nll' = −(W/p̂ − L/(1 − p̂))·p̂'. The resample's
 //! score polynomial is the count-weighted sum of the rows' polynomials; its root predicts the
-//! optimum. Pythagenport (two parameters, a logistic regression without intercept) gets the exact
-//! Newton step at θ0 from count-weighted sums of each row's gradient and Hessian at θ0.
+//! optimum.
 //!
 //! A prediction is only a start: the result is the point where an exact Newton step (the same
 //! derivatives [`crate::fit::solve::newton`] uses, from [`logit_derivatives`]) is within 1e-12 of its
@@ -24,8 +24,7 @@ use crate::model::{ModelKind, Row, logit_derivatives, predict};
 
 /// Order of the one-parameter score polynomials.
 const ORDER: usize = 8;
-/// Columns of a prepared row: ORDER + 1 score coefficients and the row's nll at θ0; for
-/// Pythagenport the gradient (2) and Hessian (3) at θ0.
+/// Columns of a prepared row: ORDER + 1 score coefficients and the row's nll at θ0.
 const WIDTH: usize = ORDER + 2;
 /// The column of a one-parameter row's nll at θ0.
 const NLL: usize = ORDER + 1;
@@ -39,7 +38,7 @@ const EDGE: f64 = 1e-9;
 #[derive(Debug, Clone)]
 pub struct Prepared {
     kind: ModelKind,
-    theta0: [f64; 2],
+    theta0: f64,
     rows: Vec<[f64; WIDTH]>,
 }
 
@@ -128,70 +127,41 @@ fn score_series(p: &[f64; ORDER + 2], wins: f64, losses: f64) -> [f64; ORDER + 1
 
 /// One exact pass at θ.
 struct Pass {
-    gradient: [f64; 2],
-    hessian: [[f64; 2]; 2],
+    gradient: f64,
+    hessian: f64,
     /// min over counted rows of min(p̂, 1 − p̂) (0 for a one-sided linear row).
     edge: f64,
     sums: Option<Sums>,
 }
 
 impl Prepared {
-    /// `None` for models without this path (the Pythagorean one has its own) and for a
-    /// Pythagenport table with a zero-run side (whose prediction jumps where x changes sign).
+    /// `None` for models without this path (the Pythagorean and Pythagenport ones have their own).
     pub fn new(t: &Table, kind: ModelKind, theta0: &[f64]) -> Option<Prepared> {
-        let mut rows = Vec::with_capacity(t.len());
-        match kind {
-            ModelKind::Pythagenpat | ModelKind::Linear => {
-                for i in 0..t.len() {
-                    let mut out = [0.0; WIDTH];
-                    if let Some(p) = p_series(kind, theta0[0], &Row::of(t, i)) {
-                        let s = score_series(&p, t.wins[i], t.losses[i]);
-                        out[..=ORDER].copy_from_slice(&s);
-                    }
-                    let p0 = predict(kind, theta0, &Row::of(t, i));
-                    out[NLL] = row_nll(t.wins[i], t.losses[i], p0);
-                    rows.push(out);
-                }
-            }
-            ModelKind::Pythagenport => {
-                if t.ln_ratio.iter().any(|l| !l.is_finite()) {
-                    return None;
-                }
-                for i in 0..t.len() {
-                    let mut out = [0.0; WIDTH];
-                    if let Some(d) = logit_derivatives(kind, theta0, &Row::of(t, i)) {
-                        let (g, n) = (d.gradient, t.decisions[i]);
-                        let residual = t.wins[i] - n * d.p;
-                        let v = n * d.p * (1.0 - d.p);
-                        out[..5].copy_from_slice(&[
-                            -residual * g[0],
-                            -residual * g[1],
-                            v * g[0] * g[0],
-                            v * g[0] * g[1],
-                            v * g[1] * g[1],
-                        ]);
-                    }
-                    rows.push(out);
-                }
-            }
-            ModelKind::Pythagorean => return None,
+        if !matches!(kind, ModelKind::Pythagenpat | ModelKind::Linear) {
+            return None;
         }
-        let theta0 = [theta0[0], theta0.get(1).copied().unwrap_or(0.0)];
-        Some(Prepared { kind, theta0, rows })
+        let rows = (0..t.len())
+            .map(|i| {
+                let mut out = [0.0; WIDTH];
+                if let Some(p) = p_series(kind, theta0[0], &Row::of(t, i)) {
+                    let s = score_series(&p, t.wins[i], t.losses[i]);
+                    out[..=ORDER].copy_from_slice(&s);
+                }
+                let p0 = predict(kind, theta0, &Row::of(t, i));
+                out[NLL] = row_nll(t.wins[i], t.losses[i], p0);
+                out
+            })
+            .collect();
+        Some(Prepared {
+            kind,
+            theta0: theta0[0],
+            rows,
+        })
     }
 
-    fn dim(&self) -> usize {
-        if self.kind == ModelKind::Pythagenport {
-            2
-        } else {
-            1
-        }
-    }
-
-    /// The predicted optimum of a resample: the root of its score polynomial nearest θ0 (one
-    /// parameter) or the exact Newton step from θ0 (Pythagenport). `None` when the prediction
-    /// finds no minimum.
-    fn predict(&self, counts: &[f64], drawn: &[u32]) -> Option<([f64; 2], [f64; WIDTH])> {
+    /// The predicted optimum of a resample: the root of its score polynomial nearest θ0, with the
+    /// polynomial's coefficients. `None` when the prediction finds no minimum.
+    fn predict(&self, counts: &[f64], drawn: &[u32]) -> Option<(f64, [f64; WIDTH])> {
         let mut s = [0.0; WIDTH];
         for &i in drawn {
             let (c, row) = (counts[i as usize], &self.rows[i as usize]);
@@ -200,10 +170,6 @@ impl Prepared {
             }
         }
         let t0 = self.theta0;
-        if self.dim() == 2 {
-            let delta = step2(&[s[0], s[1]], &[[s[2], s[3]], [s[3], s[4]]])?;
-            return Some(([t0[0] + delta[0], t0[1] + delta[1]], s));
-        }
         let mut d = 0.0;
         for _ in 0..30 {
             let (mut score, mut slope) = (0.0, 0.0);
@@ -216,11 +182,11 @@ impl Prepared {
             }
             let step = score / slope;
             d -= step;
-            if !d.is_finite() || d.abs() > 0.5 * t0[0].abs() {
+            if !d.is_finite() || d.abs() > 0.5 * t0.abs() {
                 return None;
             }
-            if step.abs() <= 1e-15 * t0[0].abs().max(1.0) {
-                return Some(([t0[0] + d, 0.0], s));
+            if step.abs() <= 1e-15 * t0.abs().max(1.0) {
+                return Some((t0 + d, s));
             }
         }
         None
@@ -232,42 +198,39 @@ impl Prepared {
     fn pass(
         &self,
         t: &Table,
-        theta: &[f64],
+        theta: f64,
         counts: &[f64],
         drawn: &[u32],
         metrics: bool,
         series_nll: bool,
     ) -> Pass {
         let mut out = Pass {
-            gradient: [0.0; 2],
-            hessian: [[0.0; 2]; 2],
+            gradient: 0.0,
+            hessian: 0.0,
             edge: f64::INFINITY,
             sums: metrics.then(Sums::default),
         };
+        let params = [theta];
         for &i in drawn {
             let i = i as usize;
             let c = counts[i];
             let row = Row::of(t, i);
-            let p = match logit_derivatives(self.kind, theta, &row) {
+            let p = match logit_derivatives(self.kind, &params, &row) {
                 Some(d) => {
                     let n = c * t.decisions[i];
                     let residual = c * t.wins[i] - n * d.p;
                     let v = n * d.p * (1.0 - d.p);
-                    for a in 0..2 {
-                        out.gradient[a] -= residual * d.gradient[a];
-                        for b in 0..2 {
-                            out.hessian[a][b] +=
-                                v * d.gradient[a] * d.gradient[b] - residual * d.hessian[a][b];
-                        }
-                    }
+                    out.gradient -= residual * d.gradient[0];
+                    out.hessian += v * d.gradient[0] * d.gradient[0] - residual * d.hessian[0][0];
                     d.p
                 }
-                None => predict(self.kind, theta, &row),
+                None => predict(self.kind, &params, &row),
             };
             // The linear loss is convex in 1/r only while every counted row is inside (0, 1) with
             // both wins and losses: a row past 0 or 1 keeps its clamped loss whatever r does, and
-            // the loss can have another, lower minimum there (the 1870s rows do this on the full
-            // history), so such a resample goes to the general solver.
+            // the loss has other local minima there (on the full history, eight between r = 5
+            // and 60, each just past where an 1870s row reaches the clamp), which the general
+            // solver may find lower, so such a resample goes to it.
             let one_sided =
                 self.kind == ModelKind::Linear && (t.wins[i] == 0.0 || t.losses[i] == 0.0);
             out.edge = if one_sided {
@@ -290,67 +253,45 @@ impl Prepared {
     /// A resample's optimum and metrics (see the module notes), or `None` for the general solver.
     /// `drawn`: the rows whose count is not zero, ascending.
     pub fn refit(&self, t: &Table, counts: &[f64], drawn: &[u32]) -> Option<(Vec<f64>, Metrics)> {
-        let k = self.dim();
         let (mut theta, series) = self.predict(counts, drawn)?;
-        // A one-parameter prediction is usually exact to rounding, so its first pass scores too;
-        // Pythagenport's first step is not, so its metrics wait for a small step.
-        let mut metrics = k == 1;
+        // The prediction is usually exact to rounding, so its first pass scores too.
+        let mut metrics = true;
         for n in 0..PASSES {
             // PythagenPat's series (radius about 1/ln RPG, far beyond a resample's move) gives the
             // log-likelihood when its own prediction passed the exact check; the linear series'
             // radius is only as wide as the nearest row's distance from 0 or 1, so it takes ln.
             let series_nll = self.kind == ModelKind::Pythagenpat && n == 0;
-            let pass = self.pass(t, &theta[..k], counts, drawn, metrics, series_nll);
-            let delta = if k == 1 {
-                let h = pass.hessian[0][0];
-                (h > 0.0 && pass.gradient[0].is_finite()).then(|| [-pass.gradient[0] / h, 0.0])
-            } else {
-                step2(&pass.gradient, &pass.hessian)
-            }?;
-            // The clamp: Pythagenport's general path refuses an optimum there; the linear model's
-            // loss changes its form where a p̂ crosses 0 or 1.
-            if self.kind != ModelKind::Pythagenpat && pass.edge <= EDGE {
+            let pass = self.pass(t, theta, counts, drawn, metrics, series_nll);
+            let h = pass.hessian;
+            if !(h > 0.0 && pass.gradient.is_finite()) {
                 return None;
             }
-            let small = (0..k).all(|a| delta[a].abs() <= 1e-12 * theta[a].abs().max(1.0));
+            let delta = -pass.gradient / h;
+            // The clamp: the linear model's loss changes its form where a p̂ crosses 0 or 1.
+            if self.kind == ModelKind::Linear && pass.edge <= EDGE {
+                return None;
+            }
+            let small = delta.abs() <= 1e-12 * theta.abs().max(1.0);
             if let (true, Some(sums)) = (small, pass.sums.as_ref()) {
-                let params: Vec<f64> = (0..k).map(|a| theta[a] + delta[a]).collect();
-                let positive = self.kind == ModelKind::Pythagenport || params[0] > 0.0;
+                let param = theta + delta;
                 let mut m = sums.metrics();
                 if series_nll {
                     // Σ c·nll(θ0) + ∫ score from θ0 to the optimum, by Horner.
-                    let d = params[0] - self.theta0[0];
+                    let d = param - self.theta0;
                     let mut integral = 0.0;
                     for (j, &c) in series[..=ORDER].iter().enumerate().rev() {
                         integral = integral * d + c / (j + 1) as f64;
                     }
                     m.logloss = (series[NLL] + integral * d) / sums.games;
                 }
-                return (positive && params.iter().all(|v| v.is_finite())).then_some((params, m));
+                return (param > 0.0 && param.is_finite()).then_some((vec![param], m));
             }
-            for a in 0..k {
-                theta[a] += delta[a];
-            }
-            if !theta.iter().all(|v| v.is_finite()) || (k == 1 && theta[0] <= 0.0) {
+            theta += delta;
+            if !theta.is_finite() || theta <= 0.0 {
                 return None;
             }
-            metrics = (0..k).all(|a| delta[a].abs() <= 1e-6 * theta[a].abs().max(1.0));
+            metrics = delta.abs() <= 1e-6 * theta.abs().max(1.0);
         }
         None
     }
-}
-
-/// The Newton step −H⁻¹·∇ in two parameters; `None` unless H is safely positive definite (the
-/// rule of [`crate::fit::solve::newton`]).
-fn step2(gradient: &[f64; 2], hessian: &[[f64; 2]; 2]) -> Option<[f64; 2]> {
-    let (haa, hab, hbb) = (hessian[0][0], hessian[0][1], hessian[1][1]);
-    let det = haa * hbb - hab * hab;
-    if !gradient.iter().all(|g| g.is_finite()) || det.is_nan() || det <= 1e-10 * haa * hbb {
-        return None;
-    }
-    if haa <= 0.0 {
-        return None;
-    }
-    let (ga, gb) = (gradient[0], gradient[1]);
-    Some([(hab * gb - hbb * ga) / det, (hab * ga - haa * gb) / det])
 }
