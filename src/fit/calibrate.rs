@@ -3,6 +3,8 @@
 //! profile saves, the over- and under-performers and the chart's data are all decided here, so the
 //! command is glue and the report layer only renders.
 
+use std::borrow::Cow;
+
 use super::{Group, GroupBy, Loss, LossCurve, ModelFit, bootstrap};
 use crate::data::{Table, TeamSeason};
 use crate::error::Error;
@@ -150,13 +152,14 @@ pub fn calibrate(
     let mut group_rows = Vec::new();
     let mut teams = Vec::new();
     // The primary fit's rows (a group's with --by) for the chart.
-    let mut primary: Option<(Model, Option<Group>, Table)> = None;
+    // Borrowed when it is the whole table: a game log's table can be megabytes.
+    let mut primary: Option<(Model, Option<Group>, Cow<'_, Table>)> = None;
     let mut comparison = None;
 
     if let Some(x) = plan.exponent {
         let model = Model::new(ModelKind::Pythagorean, vec![x]);
         fits.push(super::score_model(table, model.clone(), plan.loss));
-        primary = Some((model, None, table.clone()));
+        primary = Some((model, None, Cow::Borrowed(table)));
     } else if let Some(by) = plan.by {
         for (group, idx) in super::group_rows(rows, by) {
             if idx.len() < plan.min_group {
@@ -187,7 +190,8 @@ pub fn calibrate(
                         teams.extend(luck::team_lines(&sub_rows, &sub, &f.model));
                     }
                     if primary.is_none() {
-                        primary = Some((f.model.clone(), Some(group.clone()), sub.clone()));
+                        primary =
+                            Some((f.model.clone(), Some(group.clone()), Cow::Owned(sub.clone())));
                     }
                 }
                 group_rows.push(GroupRow::Fitted(fits.len()));
@@ -206,7 +210,9 @@ pub fn calibrate(
         for &kind in &plan.models {
             fits.push(with_intervals(table, rows, kind, plan)?);
         }
-        let first = fits.first().map(|f| (f.model.clone(), None, table.clone()));
+        let first = fits
+            .first()
+            .map(|f| (f.model.clone(), None, Cow::Borrowed(table)));
         primary = first;
         super::rank(&mut fits);
         comparison = super::compare::in_sample(&fits);
