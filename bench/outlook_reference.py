@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""A straightforward numpy version of `runcal outlook`, for bench/outlook-compare.sh.
+"""A straightforward numpy version of `runcal outlook`, for bench/compare.sh (row e).
 
     outlook_reference.py GAMES.csv AS_OF EXPONENT K SIMULATIONS SEED
 
