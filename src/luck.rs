@@ -112,9 +112,9 @@ pub struct LuckLine {
     pub luck_z: Option<f64>,
     pub luck_p: Option<f64>,
     pub signal: Signal,
-    /// Holm-adjusted p over the teams shown.
+    /// Holm-adjusted p over every team-season ranked.
     pub holm_p: Option<f64>,
-    /// The Holm-adjusted p is at most [`FAMILY_LEVEL`]: the gap stands out even among all teams shown.
+    /// The Holm-adjusted p is at most [`FAMILY_LEVEL`]: the gap stands out even among all teams ranked.
     pub beyond_chance: bool,
     /// (RS − RA)/games.
     pub run_diff_per_game: f64,
@@ -128,12 +128,13 @@ pub const NOTABLE_Z: f64 = 2.0;
 /// The name of the multiplicity adjustment, as the outputs print it.
 pub const MULTIPLICITY: &str = "holm";
 
-/// The family the multiplicity-aware flag adjusts over: the teams shown.
+/// The family the multiplicity-aware flag adjusts over: every team-season ranked, also when `--top`
+/// shows only the extremes (the extremes are the ones a selection makes look significant).
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct Family {
     pub method: &'static str,
     pub family_level: f64,
-    /// Teams with a p-value among those shown.
+    /// Team-seasons of the whole ranking with a p-value.
     pub teams: usize,
 }
 
@@ -147,9 +148,14 @@ impl Family {
     }
 }
 
-/// Build the weekly report's lines, sorted by luck in wins (most ahead of their scoring first; ties
-/// broken by season, league, team). With `top`, only the `top` most ahead and most behind are kept;
-/// Holm's adjustment runs over the lines kept.
+/// The weekly report's lines and the family their Holm adjustment ran over.
+#[derive(Debug, Clone)]
+pub struct Ranking {
+    pub lines: Vec<LuckLine>,
+    pub family: Family,
+}
+
+/// [`ranking`]'s lines.
 pub fn luck_lines(
     rows: &[TeamSeason],
     t: &Table,
@@ -158,6 +164,21 @@ pub fn luck_lines(
     outlook: Option<&Outlook>,
     top: Option<usize>,
 ) -> Vec<LuckLine> {
+    ranking(rows, t, model, noise, outlook, top).lines
+}
+
+/// Build the weekly report's lines, sorted by luck in wins (most ahead of their scoring first; ties
+/// broken by season, league, team). Holm's adjustment runs over every team-season; with `top`,
+/// only the `top` most ahead and most behind are kept after it (adjusting over the kept lines alone
+/// would let the selection of extremes pass for evidence).
+pub fn ranking(
+    rows: &[TeamSeason],
+    t: &Table,
+    model: &Model,
+    noise: &Noise,
+    outlook: Option<&Outlook>,
+    top: Option<usize>,
+) -> Ranking {
     let mut out: Vec<LuckLine> = team_lines(rows, t, model)
         .into_iter()
         .enumerate()
@@ -191,15 +212,16 @@ pub fn luck_lines(
         })
         .collect();
     out.sort_by(|a, b| most_ahead_first(&a.line, &b.line));
-    if let Some(n) = top {
-        keep_extremes(&mut out, n);
-    }
     let p: Vec<Option<f64>> = out.iter().map(|l| l.luck_p).collect();
     for (l, adjusted) in out.iter_mut().zip(holm(&p)) {
         l.holm_p = adjusted;
         l.beyond_chance = adjusted.is_some_and(|q| q <= FAMILY_LEVEL);
     }
-    out
+    let family = Family::over(&out);
+    if let Some(n) = top {
+        keep_extremes(&mut out, n);
+    }
+    Ranking { lines: out, family }
 }
 
 /// What every team-season of a ranking shares, before `--top` keeps its extremes: a heading may

@@ -292,12 +292,56 @@ fn weekly_report_on_the_demo_game_log_ranks_with_z_p_one_run_and_projection() {
     }
     assert_eq!(v["outlook"]["season_games"], 140);
     // The demo's top club is 2.5 residual SD ahead: flagged by |z| ≥ 2, but not beyond chance
-    // after Holm's adjustment over the 14 clubs shown.
+    // after Holm's adjustment over the 14 clubs ranked.
     let top = &teams[0]["gap"];
     assert!(f(&top["luck_z"]) > 2.5 && top["signal"] == "ahead", "{top}");
     assert_eq!(top["beyond_chance"], false);
     assert_eq!(v["multiplicity"]["method"], "holm");
     assert_eq!(v["multiplicity"]["teams"], 14);
+}
+
+#[test]
+fn top_shows_the_extremes_but_holm_adjusts_over_the_whole_ranking() {
+    // Holm (1979): the family is every hypothesis tested. Showing only the two most extreme clubs
+    // must not shrink it, or the selection itself would pass for evidence.
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "luck",
+            "demo-data/meridian-2026-games.csv",
+            "--games",
+            "--profile",
+            "demo-data/meridian-profile.json",
+            "--as-of",
+            "2026-07-15",
+            "--format",
+            "json",
+        ];
+        args.extend_from_slice(extra);
+        json(runcal().args(&args))
+    };
+    let all = run(&[]);
+    let top = run(&["--top", "1"]);
+    let shown = top["teams"].as_array().unwrap();
+    assert_eq!(shown.len(), 2, "one most ahead, one most behind");
+    assert_eq!(top["multiplicity"]["teams"], all["multiplicity"]["teams"]);
+    assert_eq!(top["multiplicity"]["teams"], 14);
+    let by_team = |v: &Value, name: &Value| {
+        v["teams"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|t| &t["team"] == name)
+            .unwrap()["gap"]
+            .clone()
+    };
+    for t in shown {
+        let whole = by_team(&all, &t["team"]);
+        assert_eq!(t["gap"]["holm_p"], whole["holm_p"], "{}", t["team"]);
+        assert_eq!(t["gap"]["beyond_chance"], whole["beyond_chance"]);
+    }
+    // Over only the two shown, the top club's adjusted p would be at most twice its raw p.
+    let (raw, adjusted) = (f(&shown[0]["gap"]["luck_p"]), f(&shown[0]["gap"]["holm_p"]));
+    assert!(adjusted > 2.0 * raw, "{raw} -> {adjusted}");
 }
 
 #[test]
@@ -691,7 +735,7 @@ fn wording_says_team_seasons_and_has_no_doubled_parentheses() {
         .clone();
     let luck = String::from_utf8(luck).unwrap();
     assert!(
-        luck.contains("over the 14 team-seasons shown with a z"),
+        luck.contains("over the 14 team-seasons ranked with a z"),
         "{luck}"
     );
     assert!(!luck.contains(" teams shown"), "{luck}");

@@ -190,8 +190,11 @@ pub fn calibrate(
                         teams.extend(luck::team_lines(&sub_rows, &sub, &f.model));
                     }
                     if primary.is_none() {
-                        primary =
-                            Some((f.model.clone(), Some(group.clone()), Cow::Owned(sub.clone())));
+                        primary = Some((
+                            f.model.clone(),
+                            Some(group.clone()),
+                            Cow::Owned(sub.clone()),
+                        ));
                     }
                 }
                 group_rows.push(GroupRow::Fitted(fits.len()));

@@ -1,5 +1,5 @@
 //! The noise model behind the luck signal: quasi-binomial, with the dispersion the calibration
-//! measured, and a multiplicity-aware flag over the teams shown.
+//! measured, and a multiplicity-aware flag over every team ranked.
 
 use serde::Serialize;
 

@@ -163,10 +163,10 @@ fn heading(r: &LuckReport) -> String {
 
 fn footnotes(r: &LuckReport) -> String {
     let n = &r.noise;
-    let family = Family::over(&r.teams);
+    let family = r.family;
     let mut out = format!(
         "gap in SD: (W − n·p̂)/√(φ·n·p̂(1 − p̂)), {} noise with dispersion φ = {:.3} ({}); \"well ahead/behind\" at |z| ≥ {NOTABLE_Z}; \
-\"beyond chance\": Holm-adjusted p ≤ {} over the {} shown with a z\n",
+\"beyond chance\": Holm-adjusted p ≤ {} over the {} ranked with a z\n",
         n.model,
         n.dispersion,
         n.source.describe(),
@@ -425,7 +425,7 @@ pub fn luck_json(r: &LuckReport) -> LuckJson<'_> {
         games_through: r.last_played.map(|d| d.to_string()),
         season_complete: r.finished.is_some(),
         noise: r.noise,
-        multiplicity: Family::over(&r.teams),
+        multiplicity: r.family,
         signal_z: NOTABLE_Z,
         outlook: r.outlook.map(|o| OutlookJson {
             season_games: o.season_games,

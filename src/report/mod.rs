@@ -181,6 +181,8 @@ pub struct LuckReport {
     /// Season length, run-based regression constant and range level of the projections.
     pub outlook: Option<crate::luck::Outlook>,
     pub teams: Vec<crate::luck::LuckLine>,
+    /// What the Holm adjustment ran over: the whole ranking, before `--top`.
+    pub family: crate::luck::Family,
     /// Positions in `teams` that the chart labels (`--plot`); `None` without a chart.
     pub chart_labels: Option<Vec<usize>>,
     pub unit: Unit,

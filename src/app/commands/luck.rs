@@ -13,7 +13,7 @@ use runcal::report::LuckReport;
 ///
 /// Applies a saved calibration (--profile) or, without one, fits on the given data. Leads with each
 /// team's gap (wins over expected) and its z under the quasi-binomial noise model (dispersion from the
-/// calibration), a two-sided p-value and a Holm-adjusted flag over the teams shown; then the evidence
+/// calibration), a two-sided p-value and a Holm-adjusted flag over every team-season ranked (also with --top); then the evidence
 /// (run differential per game, expected win%, one-run record from game logs); then, with a season
 /// length, the rest-of-season outlook with an 80% range and the mass it actually holds.
 /// Luck estimates are uncertain; this is descriptive statistics, not wagering advice.
@@ -96,7 +96,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
     )?;
     let settings = applied::luck_settings(&chosen, profile.as_ref(), &over, &ds.rows, &table)?;
     super::say(&diag, &settings.notes, &settings.warnings);
-    let lines = luck::luck_lines(
+    let luck::Ranking { lines, family } = luck::ranking(
         &ds.rows,
         &table,
         &chosen.model,
@@ -120,6 +120,7 @@ pub fn run(args: &Args) -> Result<u8, Error> {
             .is_some()
             .then(|| luck::labelled_extremes(lines.len())),
         teams: lines,
+        family,
         unit: args.input.unit.into(),
     };
     super::write_chart(&report, args.plot.as_deref(), files, &diag)?;

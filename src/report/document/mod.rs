@@ -274,7 +274,7 @@ pub fn charts(d: &Digest, unit: super::Unit) -> Result<Vec<Chart>, Error> {
 /// The methods note; `{many}` and `{one}` stand for the unit's words (runs, run).
 const METHODS: &[&str] = &[
     "Expected win% comes from each club's {many} scored and allowed under the saved calibration (the model and parameters named below, fitted on the seasons it names). Wins vs expected is actual wins (ties as half) minus games decided times expected win%.",
-    "The gap in SD divides wins vs expected by its noise, the square root of dispersion × games decided × p̂(1 − p̂): win records scatter around their scoring with less than coin-flip variance, and the calibration's dispersion says how much less. A club 2 SD or more from its scoring is marked in the luck table, and called beyond chance when its p-value, adjusted by Holm's method over the clubs shown, stays small. Over a short stretch most gaps are noise.",
+    "The gap in SD divides wins vs expected by its noise, the square root of dispersion × games decided × p̂(1 − p̂): win records scatter around their scoring with less than coin-flip variance, and the calibration's dispersion says how much less. A club 2 SD or more from its scoring is marked in the luck table, and called beyond chance when its p-value, adjusted by Holm's method over every club ranked, stays small. Over a short stretch most gaps are noise.",
     "The outlook adds to the wins so far the remaining games times the {one}-based win% regressed toward .500 by the calibration's regression games; its range comes from a beta-binomial distribution with the same centre, and the luck table gives the probability the range actually holds.",
     "The first-place chance is the share of 10,000 simulated rest-of-seasons (the simulation of runcal outlook: each club's {one}-based strength drawn from its posterior, log5 matchups over the games left in the log, the league's home edge) in which the club finishes first in its group, ties sharing the credit. The projected wins and their range above come from the simpler projection of the luck table, which ignores who is left to play.",
     "Week-over-week columns repeat the same calculation with only the games played on or before the comparison date; nothing is stored between weeks.",
@@ -388,6 +388,8 @@ fn luck_report(d: &Digest, s: &crate::digest::Snapshot, unit: super::Unit) -> su
         noise: s.settings.noise,
         outlook: s.settings.outlook,
         teams: s.lines.clone(),
+        // The document ranks every club: the family is the lines themselves.
+        family: crate::luck::Family::over(&s.lines),
         chart_labels: None,
         unit,
     }
