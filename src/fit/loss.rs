@@ -132,15 +132,15 @@ fn metrics_with(t: &Table, counts: Option<&[f64]>, prediction: impl Fn(usize) ->
 /// Running sums of every metric over rows with multiplicities.
 #[derive(Default)]
 pub(crate) struct Sums {
-    abs: f64,
-    sq: f64,
-    wsum: f64,
-    nll: f64,
+    pub(crate) abs: f64,
+    pub(crate) sq: f64,
+    pub(crate) wsum: f64,
+    pub(crate) nll: f64,
     pub(crate) games: f64,
-    bias: f64,
-    csum: f64,
-    max_abs: f64,
-    season_games: f64,
+    pub(crate) bias: f64,
+    pub(crate) csum: f64,
+    pub(crate) max_abs: f64,
+    pub(crate) season_games: f64,
 }
 
 impl Sums {

@@ -22,6 +22,11 @@ use crate::data::Table;
 use crate::fit::loss::{Metrics, Sums, row_nll};
 use crate::model::{ModelKind, Row, logit_derivatives, predict};
 
+use super::exact;
+use super::stretches::{self, Found, Stretches, Verdict};
+use super::window::{SEARCH_TOL, Window};
+use crate::fit::solve::pieces;
+
 /// Order of the one-parameter score polynomials.
 const ORDER: usize = 8;
 /// Columns of a prepared row: ORDER + 1 score coefficients and the row's nll at θ0.
@@ -40,6 +45,12 @@ pub struct Prepared {
     kind: ModelKind,
     theta0: f64,
     rows: Vec<[f64; WIDTH]>,
+    /// The linear model's certificate that no other stretch of its loss is lower.
+    stretches: Option<Stretches>,
+    /// The linear model's cheap loss near its full-data optimum.
+    window: Option<Window>,
+    /// The linear model's rows for its exact pass (empty for PythagenPat).
+    packed: Vec<exact::Packed>,
 }
 
 /// Truncated power-series product (coefficients 0..N).
@@ -129,8 +140,6 @@ fn score_series(p: &[f64; ORDER + 2], wins: f64, losses: f64) -> [f64; ORDER + 1
 struct Pass {
     gradient: f64,
     hessian: f64,
-    /// min over counted rows of min(p̂, 1 − p̂) (0 for a one-sided linear row).
-    edge: f64,
     sums: Option<Sums>,
 }
 
@@ -152,10 +161,21 @@ impl Prepared {
                 out
             })
             .collect();
+        let stretches = (kind == ModelKind::Linear)
+            .then(|| Stretches::new(t, 1.0 / theta0[0]))
+            .flatten();
+        let window = stretches.is_some().then(|| Window::new(t, 1.0 / theta0[0]));
         Some(Prepared {
             kind,
             theta0: theta0[0],
             rows,
+            stretches,
+            window,
+            packed: if kind == ModelKind::Linear {
+                exact::pack(t)
+            } else {
+                Vec::new()
+            },
         })
     }
 
@@ -192,8 +212,7 @@ impl Prepared {
         None
     }
 
-    /// Gradient and Hessian of the resample's total negative log-likelihood at θ, the distance of
-    /// the nearest counted p̂ to 0 or 1, and (when asked) every metric's running sums, without the
+    /// Gradient and Hessian of the resample's total negative log-likelihood at θ and (when asked) every metric's running sums, without the
     /// log-likelihood when `series_nll` (the caller takes it from the series, with no ln per row).
     fn pass(
         &self,
@@ -207,7 +226,6 @@ impl Prepared {
         let mut out = Pass {
             gradient: 0.0,
             hessian: 0.0,
-            edge: f64::INFINITY,
             sums: metrics.then(Sums::default),
         };
         let params = [theta];
@@ -226,18 +244,6 @@ impl Prepared {
                 }
                 None => predict(self.kind, &params, &row),
             };
-            // The linear loss is convex in 1/r only while every counted row is inside (0, 1) with
-            // both wins and losses: a row past 0 or 1 keeps its clamped loss whatever r does, and
-            // the loss has other local minima there (on the full history, eight between r = 5
-            // and 60, each just past where an 1870s row reaches the clamp), which the general
-            // solver may find lower, so such a resample goes to it.
-            let one_sided =
-                self.kind == ModelKind::Linear && (t.wins[i] == 0.0 || t.losses[i] == 0.0);
-            out.edge = if one_sided {
-                0.0
-            } else {
-                out.edge.min(p).min(1.0 - p)
-            };
             if let Some(sums) = out.sums.as_mut() {
                 let nll = if series_nll {
                     0.0
@@ -253,38 +259,184 @@ impl Prepared {
     /// A resample's optimum and metrics (see the module notes), or `None` for the general solver.
     /// `drawn`: the rows whose count is not zero, ascending.
     pub fn refit(&self, t: &Table, counts: &[f64], drawn: &[u32]) -> Option<(Vec<f64>, Metrics)> {
-        let (mut theta, series) = self.predict(counts, drawn)?;
+        let Some(stretches) = &self.stretches else {
+            if self.kind == ModelKind::Linear {
+                let theta = self.predict(counts, drawn).map_or(self.theta0, |p| p.0);
+                return self
+                    .linear_newton(counts, drawn, 1.0 / theta, None)
+                    .map(|f| (f.0, f.1));
+            }
+            let (theta, series) = self.predict(counts, drawn)?;
+            let nll = |param: f64| self.series_nll(&series, param);
+            return self.newton(t, counts, drawn, theta, Some(&nll));
+        };
+        // The linear model: the lowest minimum inside the window, checked exactly; else Newton
+        // from the series' prediction or the full-data optimum, and the stretch around it.
+        let windowed = self.window.as_ref().and_then(|w| {
+            let sums = w.sums(counts, drawn);
+            let u = w.lowest(t, &sums)?;
+            let (lo, hi) = w.bounds();
+            let nll = |u: f64| w.value(t, &sums, u);
+            let found = self.linear_newton(counts, drawn, u, Some(&nll))?;
+            let u = 1.0 / found.0[0];
+            (u > lo && u < hi).then_some(found)
+        });
+        let mut found = match windowed {
+            Some(found) => found,
+            None => self.unwindowed(t, counts, drawn, stretches)?,
+        };
+        // A stretch that may hold a lower minimum is searched, and its minimum checked in turn:
+        // lower, it is the new candidate; not lower, the stretch is ruled out. Four searches are
+        // as far as the fast path goes.
+        let mut ruled_out = Vec::new();
+        for _ in 0..4 {
+            let theta = found.0[0];
+            let (loss, gradient) = (found.2, found.3);
+            let at = Found {
+                u: 1.0 / theta,
+                loss,
+                gradient,
+            };
+            let verdict = stretches.certify(t, counts, drawn, at, &ruled_out);
+            match verdict {
+                Verdict::Lowest => return Some((found.0, found.1)),
+                Verdict::Unknown => return None,
+                Verdict::Search(lo, hi) => {
+                    let u = pieces::stretch_minimum(
+                        |u| stretches::derivatives(t, counts, drawn, u),
+                        lo,
+                        hi,
+                        SEARCH_TOL,
+                    );
+                    // No minimum inside (the bound dipped below, the loss did not): no verdict.
+                    let u = u?;
+                    let other = self.linear_newton(counts, drawn, u, None)?;
+                    if other.2 < loss {
+                        found = other;
+                    } else {
+                        ruled_out.push((lo, hi));
+                    }
+                }
+            }
+        }
+        None
+    }
+
+    /// The linear model beyond its window: Newton from the series' prediction (its radius is only
+    /// as wide as the nearest row's distance from 0 or 1) or else from the full-data optimum; where
+    /// Newton in r leaves the stretch or meets a loss that is convex in 1/r but not in r, the
+    /// stretch around the full-data optimum is searched in u, safeguarded.
+    #[allow(clippy::type_complexity)]
+    fn unwindowed(
+        &self,
+        t: &Table,
+        counts: &[f64],
+        drawn: &[u32],
+        stretches: &Stretches,
+    ) -> Option<(Vec<f64>, Metrics, f64, f64)> {
+        let theta = self.predict(counts, drawn).map_or(self.theta0, |p| p.0);
+        if let Some(found) = self.linear_newton(counts, drawn, 1.0 / theta, None) {
+            return Some(found);
+        }
+        let (lo, hi) = stretches.around(counts, 1.0 / self.theta0);
+        let u = pieces::stretch_minimum(
+            |u| stretches::derivatives(t, counts, drawn, u),
+            lo,
+            hi,
+            SEARCH_TOL,
+        )?;
+        self.linear_newton(counts, drawn, u, None)
+    }
+
+    /// Σ c·nll at θ from a resample's score series: Σ c·nll(θ0) + ∫ score from θ0, by Horner.
+    fn series_nll(&self, series: &[f64; WIDTH], theta: f64) -> f64 {
+        let d = theta - self.theta0;
+        let mut integral = 0.0;
+        for (j, &c) in series[..=ORDER].iter().enumerate().rev() {
+            integral = integral * d + c / (j + 1) as f64;
+        }
+        series[NLL] + integral * d
+    }
+
+    /// The linear model's exact Newton passes, in u = 1/r (where each stretch of its loss is
+    /// convex): per drawn row p̂ = 0.5 + D·u and two divisions, W/p̂ and L/(1 − p̂), give its slope
+    /// D·(L/(1 − p̂) − W/p̂) and curvature D²·(W/p̂² + L/(1 − p̂)²); a row past the clamp adds
+    /// neither, and a row within [`EDGE`] of it ends the fast path. Accepted, as in [`Self::newton`],
+    /// when the step is within 1e-12 of u, with the metrics of the pass that took it and the loss
+    /// from `nll` (a function of u) when given. Returns (r, metrics, Σ c·nll, ∂/∂u of it).
+    #[allow(clippy::type_complexity)]
+    fn linear_newton(
+        &self,
+        counts: &[f64],
+        drawn: &[u32],
+        mut u: f64,
+        nll: Option<&dyn Fn(f64) -> f64>,
+    ) -> Option<(Vec<f64>, Metrics, f64, f64)> {
+        let mut metrics = true;
+        for _ in 0..PASSES {
+            if !(u > 0.0 && u.is_finite()) {
+                return None;
+            }
+            let pass = exact::pass(&self.packed, counts, drawn, u, metrics, nll.is_none());
+            if pass.edge <= EDGE {
+                return None;
+            }
+            let (g, h, sums) = (pass.gradient, pass.hessian, pass.sums);
+            if !(h > 0.0 && g.is_finite()) {
+                return None;
+            }
+            let delta = -g / h;
+            if let (true, Some(sums)) = (delta.abs() <= 1e-12 * u, sums.as_ref()) {
+                let next = u + delta;
+                if !(next > 0.0 && next.is_finite()) {
+                    return None;
+                }
+                let mut m = sums.metrics();
+                if let Some(total) = nll {
+                    m.logloss = total(next) / sums.games;
+                }
+                return Some((vec![1.0 / next], m, m.logloss * sums.games, g));
+            }
+            u += delta;
+            metrics = delta.abs() <= 1e-6 * u;
+        }
+        None
+    }
+
+    /// PythagenPat's exact Newton passes from θ: the optimum and its metrics.
+    fn newton(
+        &self,
+        t: &Table,
+        counts: &[f64],
+        drawn: &[u32],
+        mut theta: f64,
+        nll: Option<&dyn Fn(f64) -> f64>,
+    ) -> Option<(Vec<f64>, Metrics)> {
+        let predicted = theta;
         // The prediction is usually exact to rounding, so its first pass scores too.
         let mut metrics = true;
         for n in 0..PASSES {
-            // PythagenPat's series (radius about 1/ln RPG, far beyond a resample's move) gives the
-            // log-likelihood when its own prediction passed the exact check; the linear series'
-            // radius is only as wide as the nearest row's distance from 0 or 1, so it takes ln.
-            let series_nll = self.kind == ModelKind::Pythagenpat && n == 0;
-            let pass = self.pass(t, theta, counts, drawn, metrics, series_nll);
+            // The series gives the log-likelihood (Σ c·nll at the optimum) with no ln per row
+            // (PythagenPat's radius is about 1/ln RPG, far beyond a resample's move) when its own
+            // prediction passed the exact check.
+            let by_series = nll.filter(|_| n == 0 && theta == predicted);
+            let pass = self.pass(t, theta, counts, drawn, metrics, by_series.is_some());
             let h = pass.hessian;
             if !(h > 0.0 && pass.gradient.is_finite()) {
                 return None;
             }
             let delta = -pass.gradient / h;
-            // The clamp: the linear model's loss changes its form where a p̂ crosses 0 or 1.
-            if self.kind == ModelKind::Linear && pass.edge <= EDGE {
-                return None;
-            }
             let small = delta.abs() <= 1e-12 * theta.abs().max(1.0);
             if let (true, Some(sums)) = (small, pass.sums.as_ref()) {
                 let param = theta + delta;
                 let mut m = sums.metrics();
-                if series_nll {
-                    // Σ c·nll(θ0) + ∫ score from θ0 to the optimum, by Horner.
-                    let d = param - self.theta0;
-                    let mut integral = 0.0;
-                    for (j, &c) in series[..=ORDER].iter().enumerate().rev() {
-                        integral = integral * d + c / (j + 1) as f64;
-                    }
-                    m.logloss = (series[NLL] + integral * d) / sums.games;
+                if let Some(total) = by_series {
+                    m.logloss = total(param) / sums.games;
                 }
-                return (param > 0.0 && param.is_finite()).then_some((vec![param], m));
+                if !(param > 0.0 && param.is_finite()) {
+                    return None;
+                }
+                return Some((vec![param], m));
             }
             theta += delta;
             if !theta.is_finite() || theta <= 0.0 {

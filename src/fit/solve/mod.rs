@@ -5,11 +5,13 @@
 //! solvers ([`derivative_free`]): Brent on an automatically found bracket ([`bracket`]) for one
 //! parameter, Nelder–Mead with restarts for two. A log-loss optimum found without derivatives is
 //! then polished by Newton: a loss value locates its optimum only to about √ε, the score's root
-//! to rounding.
+//! to rounding. The linear log-loss, which is convex only between the points where a row reaches
+//! the clamp, is searched stretch by stretch for its lowest minimum ([`pieces`]).
 
 pub mod bracket;
 pub mod derivative_free;
 pub mod newton;
+pub mod pieces;
 
 use argmin::core::{TerminationReason, TerminationStatus};
 
@@ -60,10 +62,15 @@ pub fn fit(p: Problem<'_>, start: Option<&[f64]>) -> Result<Outcome, FitError> {
     {
         return Ok(out);
     }
-    let out = match p.kind {
+    let mut out = match p.kind {
         ModelKind::Pythagenport => derivative_free::fit_two(p, &start)?,
         _ => derivative_free::fit_one(p, start[0])?,
     };
+    // The linear log-loss has a local minimum past each row that reaches the clamp: the lowest of
+    // them is the fit, wherever Brent started (see [`pieces`]).
+    if p.kind == ModelKind::Linear && p.loss == Loss::Logloss {
+        out = pieces::global(p, &out);
+    }
     if p.loss == Loss::Logloss
         && let Some(polished) = newton::polish(p, &out)
     {
