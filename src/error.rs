@@ -142,7 +142,7 @@ pub enum DataError {
 }
 
 /// Errors from fitting and scoring.
-#[derive(Debug, thiserror::Error)]
+#[derive(Debug, Clone, thiserror::Error)]
 pub enum FitError {
     #[error("cannot fit {model}: {reason}")]
     NoMinimum { model: String, reason: String },

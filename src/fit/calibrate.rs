@@ -169,9 +169,10 @@ pub fn calibrate(
             }
             let sub = table.subset(&idx);
             let sub_rows: Vec<TeamSeason> = idx.iter().map(|&i| rows[i].clone()).collect();
-            for (j, &kind) in plan.models.iter().enumerate() {
+            let each = with_intervals(&sub, &sub_rows, &plan.models, plan);
+            for (j, (f, &kind)) in each.into_iter().zip(&plan.models).enumerate() {
                 // One group that cannot be fitted is named and marked; the others go on.
-                let mut f = match with_intervals(&sub, &sub_rows, kind, plan) {
+                let mut f = match f {
                     Ok(f) => f,
                     Err(e) => {
                         group_rows.push(GroupRow::NotFitted(unfitted.len()));
@@ -210,8 +211,8 @@ pub fn calibrate(
             )));
         }
     } else {
-        for &kind in &plan.models {
-            fits.push(with_intervals(table, rows, kind, plan)?);
+        for f in with_intervals(table, rows, &plan.models, plan) {
+            fits.push(f?);
         }
         let first = fits
             .first()
@@ -272,17 +273,49 @@ pub fn calibrate(
     })
 }
 
+/// Each model fitted, and with --bootstrap its intervals, all from one set of resamples (see
+/// [`bootstrap::run_all`]); one result per model, in order.
 fn with_intervals(
     table: &Table,
     rows: &[TeamSeason],
-    kind: ModelKind,
+    kinds: &[ModelKind],
     plan: &Plan<'_>,
-) -> Result<ModelFit, Error> {
-    let mut f = super::fit_model(table, kind, plan.loss)?;
-    if let Some(opts) = &plan.bootstrap {
-        f.intervals = Some(bootstrap::run(table, rows, &f, opts)?);
+) -> Vec<Result<ModelFit, Error>> {
+    let mut fitted: Vec<Result<ModelFit, Error>> = kinds
+        .iter()
+        .map(|&kind| super::fit_model(table, kind, plan.loss).map_err(Error::from))
+        .collect();
+    let Some(opts) = &plan.bootstrap else {
+        return fitted;
+    };
+    let ok: Vec<ModelFit> = fitted
+        .iter()
+        .filter_map(|f| f.as_ref().ok())
+        .cloned()
+        .collect();
+    if ok.is_empty() {
+        return fitted;
     }
-    Ok(f)
+    let results = match bootstrap::run_all(table, rows, &ok, opts) {
+        Ok(each) => each,
+        Err(e) => vec![Err(e); ok.len()],
+    };
+    let mut results = results.into_iter();
+    for f in &mut fitted {
+        if f.is_ok()
+            && let Some(r) = results.next()
+        {
+            match r {
+                Ok(iv) => {
+                    if let Ok(m) = f {
+                        m.intervals = Some(iv);
+                    }
+                }
+                Err(e) => *f = Err(e.into()),
+            }
+        }
+    }
+    fitted
 }
 
 /// The published references and the user's, each scored once, ranked.

@@ -274,6 +274,62 @@ pub fn run(
     fit: &ModelFit,
     opts: &Options<'_>,
 ) -> Result<Intervals, FitError> {
+    run_all(t, rows, std::slice::from_ref(fit), opts)?.remove(0)
+}
+
+/// One resample's refit: its parameters and metrics, `None` where it could not be fitted.
+type Draw = Option<(Vec<f64>, Metrics)>;
+
+/// One model's resample fitter: its fast path where it has one, and what the general solver needs.
+struct Refitter<'f> {
+    fit: &'f ModelFit,
+    /// The Pythagorean log-loss (the default fit) has a specialised resample; see `Scratch`.
+    taylor_series: Option<PythagoreanSeries>,
+    /// Pythagenport's log-loss: a two-variable series; see `pythagenport`.
+    port_series: Option<PortSeries>,
+    /// PythagenPat's and the linear model's: per-row series and exact Newton passes; see `refit`.
+    prepared: Option<Prepared>,
+}
+
+impl<'f> Refitter<'f> {
+    fn new(t: &Table, fit: &'f ModelFit) -> Refitter<'f> {
+        let (kind, start) = (fit.model.kind, &fit.model.params);
+        let logloss = fit.loss == Loss::Logloss;
+        Refitter {
+            fit,
+            taylor_series: (kind == ModelKind::Pythagorean && logloss)
+                .then(|| PythagoreanSeries::new(t, start[0]))
+                .flatten(),
+            port_series: (kind == ModelKind::Pythagenport && logloss)
+                .then(|| PortSeries::new(t, start))
+                .flatten(),
+            prepared: logloss.then(|| Prepared::new(t, kind, start)).flatten(),
+        }
+    }
+
+    /// The resample in `s.counts`, refitted.
+    fn refit(&self, t: &Table, s: &mut Scratch) -> Option<(Vec<f64>, Metrics)> {
+        let fit = self.fit;
+        if let Some(series) = &self.taylor_series {
+            s.pythagorean(t, series)
+        } else if let Some(series) = &self.port_series {
+            s.pythagenport(t, series)
+        } else {
+            self.prepared.as_ref().and_then(|p| s.refit(t, p))
+        }
+        .or_else(|| s.general(t, fit.model.kind, fit.loss, &fit.model.params))
+    }
+}
+
+/// Resample once and refit every one of `fits` (on the same table) on each resample: resample `b`
+/// has the same counts for every model, so each model's intervals are those [`run`] gives it
+/// alone, and the draws are made once instead of once per model. One result per fit, in order.
+pub fn run_all(
+    t: &Table,
+    rows: &[TeamSeason],
+    fits: &[ModelFit],
+    opts: &Options<'_>,
+) -> Result<Vec<Result<Intervals, FitError>>, FitError> {
     if opts.resamples < 2 {
         return Err(FitError::Invalid(
             "--bootstrap needs at least 2 resamples".to_string(),
@@ -285,21 +341,8 @@ pub fn run(
             "--resample season needs at least 2 seasons".to_string(),
         ));
     }
-    let kind = fit.model.kind;
-    let start = fit.model.params.clone();
-    // The Pythagorean log-loss (the default fit) has a specialised resample; see `Scratch`.
-    let taylor_series = (kind == ModelKind::Pythagorean && fit.loss == Loss::Logloss)
-        .then(|| PythagoreanSeries::new(t, start[0]))
-        .flatten();
-    // Pythagenport's log-loss: a two-variable series; see `pythagenport`.
-    let port_series = (kind == ModelKind::Pythagenport && fit.loss == Loss::Logloss)
-        .then(|| PortSeries::new(t, &start))
-        .flatten();
-    // PythagenPat's and the linear model's: per-row series and exact Newton passes; see `refit`.
-    let prepared = (fit.loss == Loss::Logloss)
-        .then(|| Prepared::new(t, kind, &start))
-        .flatten();
-    let draws: Vec<Option<(Vec<f64>, Metrics)>> = (0..opts.resamples)
+    let refitters: Vec<Refitter<'_>> = fits.iter().map(|f| Refitter::new(t, f)).collect();
+    let draws: Vec<Vec<Draw>> = (0..opts.resamples)
         .into_par_iter()
         .map_init(Scratch::default, |s, b| {
             weights(
@@ -310,20 +353,23 @@ pub fn run(
                 b,
                 &mut s.counts,
             );
-            let out = if let Some(series) = &taylor_series {
-                s.pythagorean(t, series)
-            } else if let Some(series) = &port_series {
-                s.pythagenport(t, series)
-            } else {
-                prepared.as_ref().and_then(|p| s.refit(t, p))
-            }
-            .or_else(|| s.general(t, kind, fit.loss, &start));
+            let out: Vec<_> = refitters.iter().map(|r| r.refit(t, s)).collect();
             if let Some(progress) = opts.progress {
-                progress(1);
+                progress(refitters.len() as u64);
             }
             out
         })
         .collect();
+    Ok((0..fits.len())
+        .map(|j| {
+            let column: Vec<Draw> = draws.iter().map(|d| d[j].clone()).collect();
+            summarise(&column, fits[j].model.params.len(), opts)
+        })
+        .collect())
+}
+
+/// Percentile intervals and standard deviations of one model's resample fits.
+fn summarise(draws: &[Draw], parameters: usize, opts: &Options<'_>) -> Result<Intervals, FitError> {
     let ok: Vec<&(Vec<f64>, Metrics)> = draws.iter().flatten().collect();
     let failed = draws.len() - ok.len();
     if ok.len() < 2 {
@@ -340,7 +386,7 @@ pub fn run(
     };
     let mut params = Vec::new();
     let mut params_sd = Vec::new();
-    for j in 0..start.len() {
+    for j in 0..parameters {
         let v: Vec<f64> = ok.iter().map(|(p, _)| p[j]).collect();
         params_sd.push(sd(&v));
         params.push(interval(v));
@@ -484,6 +530,44 @@ mod tests {
                 );
             }
         }
+    }
+
+    /// `run_all` draws each resample once for every model; each model's intervals must be what
+    /// `run` gives it alone (the same counts per resample), and a progress callback must hear of
+    /// every refit.
+    #[test]
+    fn every_model_on_one_set_of_resamples_matches_each_alone() {
+        use crate::data::Weighting;
+        let (t, rows) = crate::fit::testdata::databank(Some("1990-2006"), Weighting::None);
+        let fits: Vec<ModelFit> = ModelKind::ALL
+            .into_iter()
+            .map(|k| crate::fit::fit_model(&t, k, Loss::Logloss).unwrap())
+            .collect();
+        let told = std::sync::atomic::AtomicU64::new(0);
+        let progress = |n: u64| {
+            told.fetch_add(n, std::sync::atomic::Ordering::Relaxed);
+        };
+        for resample in [Resample::Team, Resample::Season] {
+            let opts = Options {
+                resamples: 40,
+                seed: 11,
+                resample,
+                level: 0.9,
+                progress: Some(&progress),
+            };
+            let together = run_all(&t, &rows, &fits, &opts).unwrap();
+            assert_eq!(together.len(), fits.len());
+            for (f, iv) in fits.iter().zip(together) {
+                let alone = run(&t, &rows, f, &opts).unwrap();
+                assert_eq!(iv.unwrap(), alone, "{}", f.model.kind);
+            }
+        }
+        // Each resample once per model together, then once per model alone; two resamplings.
+        let n = fits.len() as u64;
+        assert_eq!(
+            told.load(std::sync::atomic::Ordering::Relaxed),
+            2 * (40 * n + 40 * n)
+        );
     }
 
     #[test]
