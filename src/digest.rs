@@ -363,14 +363,15 @@ pub fn snapshot(
         rows_rejected: ds.rejected.len(),
         ranked: crate::luck::Ranked::over(&ds.rows),
         mismatch: crate::applied::environment_mismatch(profile, &ds.rows, None),
-        lines: crate::luck::luck_lines(
+        lines: crate::luck::ranking(
             &ds.rows,
             table,
             &chosen.model,
             &settings.noise,
             settings.outlook.as_ref(),
             None,
-        ),
+        )
+        .lines,
         settings,
         first_place: None,
     })

@@ -155,18 +155,6 @@ pub struct Ranking {
     pub family: Family,
 }
 
-/// [`ranking`]'s lines.
-pub fn luck_lines(
-    rows: &[TeamSeason],
-    t: &Table,
-    model: &Model,
-    noise: &Noise,
-    outlook: Option<&Outlook>,
-    top: Option<usize>,
-) -> Vec<LuckLine> {
-    ranking(rows, t, model, noise, outlook, top).lines
-}
-
 /// Build the weekly report's lines, sorted by luck in wins (most ahead of their scoring first; ties
 /// broken by season, league, team). Holm's adjustment runs over every team-season; with `top`,
 /// only the `top` most ahead and most behind are kept after it (adjusting over the kept lines alone

@@ -5,7 +5,7 @@
 mod common;
 
 use assert_cmd::Command;
-use common::{close, f, runcal};
+use common::{DEMO_WEEKLY_JSON, close, f, runcal};
 use serde_json::Value;
 
 fn json(cmd: &mut Command) -> Value {
@@ -226,17 +226,7 @@ fn profile_round_trip_gives_the_same_expected_wins_as_fitting_in_process() {
 
 #[test]
 fn weekly_report_on_the_demo_game_log_ranks_with_z_p_one_run_and_projection() {
-    let v = json(runcal().args([
-        "luck",
-        "demo-data/meridian-2026-games.csv",
-        "--games",
-        "--profile",
-        "demo-data/meridian-profile.json",
-        "--as-of",
-        "2026-07-15",
-        "--format",
-        "json",
-    ]));
+    let v = json(runcal().args(DEMO_WEEKLY_JSON));
     assert_eq!(v["schema"], "runcal.luck/2");
     assert!(
         v["caution"]
@@ -305,17 +295,7 @@ fn top_shows_the_extremes_but_holm_adjusts_over_the_whole_ranking() {
     // Holm (1979): the family is every hypothesis tested. Showing only the two most extreme clubs
     // must not shrink it, or the selection itself would pass for evidence.
     let run = |extra: &[&str]| {
-        let mut args = vec![
-            "luck",
-            "demo-data/meridian-2026-games.csv",
-            "--games",
-            "--profile",
-            "demo-data/meridian-profile.json",
-            "--as-of",
-            "2026-07-15",
-            "--format",
-            "json",
-        ];
+        let mut args = DEMO_WEEKLY_JSON.to_vec();
         args.extend_from_slice(extra);
         json(runcal().args(&args))
     };

@@ -55,7 +55,8 @@ fn spread(z: &[f64]) -> (f64, f64) {
 }
 
 fn z_scores(rows: &[TeamSeason], t: &Table, model: &Model, noise: &Noise) -> Vec<f64> {
-    luck::luck_lines(rows, t, model, noise, None, None)
+    luck::ranking(rows, t, model, noise, None, None)
+        .lines
         .iter()
         .filter_map(|l| l.luck_z)
         .collect()
@@ -233,7 +234,7 @@ fn quasi_binomial_luck_and_holm_of_2006_match_statsmodels() {
     let rows = &ds.rows;
     let model = Model::new(ModelKind::Pythagorean, vec![f(&r["exponent"])]);
     let noise = Noise::new(Some(f(&r["dispersion"])), NoiseSource::Profile);
-    let lines = luck::luck_lines(rows, &t2006, &model, &noise, None, None);
+    let lines = luck::ranking(rows, &t2006, &model, &noise, None, None).lines;
     let want = r["luck_2006"].as_array().unwrap();
     assert_eq!(lines.len(), want.len());
     for w in want {

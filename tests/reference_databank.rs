@@ -201,7 +201,7 @@ fn luck_of_the_2006_season_matches_scipy_normal() {
     let exponent = f(&r["subsets"]["1980-2006"]["glm"]["exponent"]);
     let model = Model::new(ModelKind::Pythagorean, vec![exponent]);
     let noise = runcal::luck::Noise::binomial();
-    let lines = runcal::luck::luck_lines(&ds.rows, &t, &model, &noise, None, None);
+    let lines = runcal::luck::ranking(&ds.rows, &t, &model, &noise, None, None).lines;
     let want = r["subsets"]["1980-2006"]["luck_2006"].as_array().unwrap();
     assert_eq!(want.len(), 30);
     for w in want {

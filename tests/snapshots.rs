@@ -6,7 +6,7 @@
 mod common;
 
 use assert_cmd::Command;
-use common::repo;
+use common::{DEMO_WEEKLY_JSON, repo};
 
 fn check(name: &str, args: &[&str]) {
     let mut c = Command::cargo_bin("runcal").unwrap();
@@ -100,20 +100,7 @@ fn fit_by_season_json() {
 
 #[test]
 fn luck_json() {
-    check(
-        "luck.json",
-        &[
-            "luck",
-            "demo-data/meridian-2026-games.csv",
-            "--games",
-            "--profile",
-            "demo-data/meridian-profile.json",
-            "--as-of",
-            "2026-07-15",
-            "--format",
-            "json",
-        ],
-    );
+    check("luck.json", &DEMO_WEEKLY_JSON);
 }
 
 #[test]

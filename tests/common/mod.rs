@@ -96,3 +96,18 @@ pub fn close(actual: f64, expected: f64, tol: f64, what: &str) {
         (actual - expected).abs()
     );
 }
+
+/// `luck` on the demo game log as of mid-July with the demo profile, as JSON: the weekly report
+/// several tests read.
+#[allow(dead_code)] // not every test binary uses every helper
+pub const DEMO_WEEKLY_JSON: [&str; 9] = [
+    "luck",
+    "demo-data/meridian-2026-games.csv",
+    "--games",
+    "--profile",
+    "demo-data/meridian-profile.json",
+    "--as-of",
+    "2026-07-15",
+    "--format",
+    "json",
+];
