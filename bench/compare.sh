@@ -67,6 +67,17 @@ if [ ! -s "$GAMES" ]; then
     "$RUNCAL" simulate --teams 30 --seasons 2058 --games 162 --game-log --seed 1 --out "$GAMES" -q
 fi
 
+# ---------------------------------------------------------------- host speed
+# The same single-threaded pure-Python work on every run, so two runs' tables can be told apart
+# by the host's speed (a shared virtual machine's varies) before their times are compared.
+HOST_LOOP=$("$PY" -c '
+import time
+t = time.perf_counter()
+s = 0
+for i in range(10**7):
+    s += i
+print(f"{time.perf_counter() - t:.2f}")')
+
 # ---------------------------------------------------------------- measuring
 # seconds NAME REPS CMD...: median wall-clock seconds of REPS runs; the last run's stdout is kept in
 # $OUT/NAME.out.
@@ -214,8 +225,13 @@ for model in ("pythagorean", "pythagenpat", "pythagenport", "linear", "all"):
         t, l = boot[f"{model}/{resample}"]
         limit = 1.0 if model == "all" else 0.3
         name = "--model all" if model == "all" else model
+        # Beside each the fixed exponent's own time on the same resampling: a ratio that a
+        # slower or busier host changes far less than the times.
+        fixed = boot[f"pythagorean/{resample}"][0]
+        ref, ratio = ("-", "-") if model == "pythagorean" else (
+            f"fixed exponent {fixed:.3f} s", f"{t / fixed:.1f}x its time")
         rows.append((f"(b) bootstrap 10,000, {name}, {resample} resampling",
-                     f"{t:.3f} s", "-", "-", f"runcal < {limit} s", verdict(t < limit), l))
+                     f"{t:.3f} s", ref, ratio, f"runcal < {limit} s", verdict(t < limit), l))
 rows += [
     ("(c) aggregate + fit 5,000,940-game log vs pandas",
      f"{c_rc:.3f} s", f"pandas {c_py:.2f} s", f"{c_py / c_rc:.1f}x",
@@ -246,6 +262,8 @@ for r in rows:
 print()
 print(f"{sum(r[5] == 'met' for r in rows)} of {len(rows)} targets met; 2 cores; "
       f"polars {pl['polars']}; load column: 1-minute load average as each measurement began.")
+print(f"host speed: a single-threaded pure-Python loop of 10^7 additions took $HOST_LOOP s "
+      "(the same loop on every run: compare it between runs before comparing times)")
 print(f"peak memory: (a) runcal {mib($A_RC_KIB):.1f} MiB, Python {mib($A_PY_KIB):.0f} MiB; "
       f"(b) runcal {mib($B_RC_KIB):.1f} MiB, Python {mib($B_PY_KIB):.0f} MiB; "
       f"(d) runcal {mib($D_RC_KIB):.1f} MiB")

@@ -12,9 +12,13 @@
 //! score polynomial is the count-weighted sum of the rows' polynomials; its root predicts the
 //! optimum.
 //!
-//! A prediction is only a start: the result is the point where an exact Newton step (the same
-//! derivatives [`crate::fit::solve::newton`] uses, from [`logit_derivatives`]) is within 1e-12 of its
-//! parameter, the metrics are those of the pass that took that step, and any doubt (a Hessian not
+//! The linear model searches past its prediction: its loss has several local minima, found in
+//! [`super::window`], checked by [`super::exact`] (Newton in u = 1/r) and proved lowest by
+//! [`super::stretches`]; see [`Prepared::refit`].
+//!
+//! A prediction is only a start: the result is the point where an exact Newton step (for
+//! PythagenPat the derivatives [`crate::fit::solve::newton`] uses, from [`logit_derivatives`]) is
+//! within 1e-12 of its parameter, the metrics are those of the pass that took that step, and any doubt (a Hessian not
 //! positive definite, a p̂ at the log-loss clamp, no convergence in [`PASSES`] passes) returns
 //! `None`, and the caller runs the general solver.
 

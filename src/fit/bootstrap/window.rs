@@ -3,7 +3,7 @@
 //! two geometric series in δ whose radius is the row's distance to 0 or 1 in u, min(p̂0, 1 − p̂0)/|D|.
 //! Within the window |δ| ≤ [`WINDOW`]·u0 a row whose radius is at least the window over [`RATIO`]
 //! is summed as its series to order [`ORDER`] (truncation below RATIO^(ORDER+1) ≈ 1e-13 of the row's
-//! score); the others (the rows near 0 or 1, a few dozen of the 2,955 on the full Databank
+//! score), or to [`FAR_ORDER`] when its ratio is under [`FAR_RATIO`]; the others (the rows near 0 or 1, a few dozen of the 2,955 on the full Databank
 //! history, and every row whose clamp falls inside the window) are taken exactly, clamp and all.
 //! A resample's loss there is then its count-weighted coefficient sums (no division or ln per row)
 //! plus its near rows, so the search over the window's stretches (between the near rows'
