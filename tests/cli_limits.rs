@@ -372,6 +372,28 @@ fn a_by_group_that_cannot_be_fitted_is_named_marked_and_the_rest_go_on() {
 }
 
 #[test]
+fn when_no_group_can_be_fitted_the_first_reason_is_given() {
+    // Season resampling inside one-season groups has nothing to draw from: every group and model
+    // fails the same way, and the error says how (25 demo seasons x 4 models).
+    let demo = common::demo_path();
+    refused(
+        &[
+            "fit",
+            &demo,
+            "--by",
+            "season",
+            "--model",
+            "all",
+            "--bootstrap",
+            "20",
+            "--resample",
+            "season",
+        ],
+        "no group could be fitted: 0 with fewer than --min-group 8 team-seasons, 100 that failed to fit (the first, group 2001 pythagorean: --resample season needs at least 2 seasons)",
+    );
+}
+
+#[test]
 fn leave_one_season_out_on_one_season_says_why() {
     let one = repo().join("tests/bad-input/season-short.csv");
     refused(

@@ -203,8 +203,12 @@ pub fn calibrate(
             }
         }
         if primary.is_none() {
+            // The first failure's reason: often every group fails for the same one.
+            let first = unfitted.first().map_or(String::new(), |u| {
+                format!(" (the first, group {} {}: {})", u.group, u.model, u.reason)
+            });
             return Err(Error::Usage(format!(
-                "no group could be fitted: {} with fewer than --min-group {} team-seasons, {} that failed to fit",
+                "no group could be fitted: {} with fewer than --min-group {} team-seasons, {} that failed to fit{first}",
                 too_small.len(),
                 plan.min_group,
                 unfitted.len()
