@@ -18,9 +18,9 @@
 //!
 //! A prediction is only a start: the result is the point where an exact Newton step (for
 //! PythagenPat the derivatives [`crate::fit::solve::newton`] uses, from [`logit_derivatives`]) is
-//! within 1e-12 of its parameter, the metrics are those of the pass that took that step, and any doubt (a Hessian not
-//! positive definite, a p̂ at the log-loss clamp, no convergence in [`PASSES`] passes) returns
-//! `None`, and the caller runs the general solver.
+//! within 1e-12 of its parameter, the metrics are those of the pass that took that step, and any
+//! doubt (a Hessian not positive definite, a p̂ at the log-loss clamp, no convergence in
+//! [`PASSES`] passes) returns `None`, and the caller runs the general solver.
 
 use crate::data::Table;
 use crate::fit::loss::{Metrics, Sums, row_nll};
@@ -42,6 +42,20 @@ const PASSES: usize = 5;
 /// A counted p̂ closer than this to 0 or 1 (or past them) is at the log-loss clamp, where the loss
 /// is not the smooth function the derivatives describe.
 const EDGE: f64 = 1e-9;
+
+/// A linear resample's minimum from its exact pass: r, the metrics there, and the point, loss and
+/// slope in u that the certificate reads.
+struct LinearFit {
+    r: f64,
+    metrics: Metrics,
+    at: Found,
+}
+
+impl LinearFit {
+    fn result(self) -> (Vec<f64>, Metrics) {
+        (vec![self.r], self.metrics)
+    }
+}
 
 /// The per-row quantities of one model at its full-data optimum.
 #[derive(Debug, Clone)]
@@ -216,8 +230,9 @@ impl Prepared {
         None
     }
 
-    /// Gradient and Hessian of the resample's total negative log-likelihood at θ and (when asked) every metric's running sums, without the
-    /// log-likelihood when `series_nll` (the caller takes it from the series, with no ln per row).
+    /// Gradient and Hessian of the resample's total negative log-likelihood at θ and (when asked)
+    /// every metric's running sums, without the log-likelihood when `series_nll` (the caller takes
+    /// it from the series, with no ln per row).
     fn pass(
         &self,
         t: &Table,
@@ -268,7 +283,7 @@ impl Prepared {
                 let theta = self.predict(counts, drawn).map_or(self.theta0, |p| p.0);
                 return self
                     .linear_newton(counts, drawn, 1.0 / theta, None)
-                    .map(|f| (f.0, f.1));
+                    .map(LinearFit::result);
             }
             let (theta, series) = self.predict(counts, drawn)?;
             let nll = |param: f64| self.series_nll(&series, param);
@@ -282,8 +297,7 @@ impl Prepared {
             let (lo, hi) = w.bounds();
             let nll = |u: f64| w.value(t, &sums, u);
             let found = self.linear_newton(counts, drawn, u, Some(&nll))?;
-            let u = 1.0 / found.0[0];
-            (u > lo && u < hi).then_some(found)
+            (found.at.u > lo && found.at.u < hi).then_some(found)
         });
         let mut found = match windowed {
             Some(found) => found,
@@ -294,16 +308,8 @@ impl Prepared {
         // as far as the fast path goes.
         let mut ruled_out = Vec::new();
         for _ in 0..4 {
-            let theta = found.0[0];
-            let (loss, gradient) = (found.2, found.3);
-            let at = Found {
-                u: 1.0 / theta,
-                loss,
-                gradient,
-            };
-            let verdict = stretches.certify(t, counts, drawn, at, &ruled_out);
-            match verdict {
-                Verdict::Lowest => return Some((found.0, found.1)),
+            match stretches.certify(t, counts, drawn, found.at, &ruled_out) {
+                Verdict::Lowest => return Some(found.result()),
                 Verdict::Unknown => return None,
                 Verdict::Search(lo, hi) => {
                     let u = pieces::stretch_minimum(
@@ -315,7 +321,7 @@ impl Prepared {
                     // No minimum inside (the bound dipped below, the loss did not): no verdict.
                     let u = u?;
                     let other = self.linear_newton(counts, drawn, u, None)?;
-                    if other.2 < loss {
+                    if other.at.loss < found.at.loss {
                         found = other;
                     } else {
                         ruled_out.push((lo, hi));
@@ -326,18 +332,17 @@ impl Prepared {
         None
     }
 
-    /// The linear model beyond its window: Newton from the series' prediction (its radius is only
-    /// as wide as the nearest row's distance from 0 or 1) or else from the full-data optimum; where
-    /// Newton in r leaves the stretch or meets a loss that is convex in 1/r but not in r, the
-    /// stretch around the full-data optimum is searched in u, safeguarded.
-    #[allow(clippy::type_complexity)]
+    /// The linear model beyond its window: Newton in u from the series' prediction (its radius is
+    /// only as wide as the nearest row's distance from 0 or 1) or else from the full-data optimum;
+    /// where Newton fails (a step across a breakpoint, where the loss is not convex), the stretch
+    /// around the full-data optimum is searched, safeguarded.
     fn unwindowed(
         &self,
         t: &Table,
         counts: &[f64],
         drawn: &[u32],
         stretches: &Stretches,
-    ) -> Option<(Vec<f64>, Metrics, f64, f64)> {
+    ) -> Option<LinearFit> {
         let theta = self.predict(counts, drawn).map_or(self.theta0, |p| p.0);
         if let Some(found) = self.linear_newton(counts, drawn, 1.0 / theta, None) {
             return Some(found);
@@ -363,19 +368,16 @@ impl Prepared {
     }
 
     /// The linear model's exact Newton passes, in u = 1/r (where each stretch of its loss is
-    /// convex): per drawn row p̂ = 0.5 + D·u and two divisions, W/p̂ and L/(1 − p̂), give its slope
-    /// D·(L/(1 − p̂) − W/p̂) and curvature D²·(W/p̂² + L/(1 − p̂)²); a row past the clamp adds
-    /// neither, and a row within [`EDGE`] of it ends the fast path. Accepted, as in [`Self::newton`],
-    /// when the step is within 1e-12 of u, with the metrics of the pass that took it and the loss
-    /// from `nll` (a function of u) when given. Returns (r, metrics, Σ c·nll, ∂/∂u of it).
-    #[allow(clippy::type_complexity)]
+    /// convex), each one [`exact::pass`]; a row within [`EDGE`] of the clamp ends the fast path.
+    /// Accepted, as in [`Self::newton`], when the step is within 1e-12 of u, with the metrics of
+    /// the pass that took it and the loss from `nll` (a function of u) when given.
     fn linear_newton(
         &self,
         counts: &[f64],
         drawn: &[u32],
         mut u: f64,
         nll: Option<&dyn Fn(f64) -> f64>,
-    ) -> Option<(Vec<f64>, Metrics, f64, f64)> {
+    ) -> Option<LinearFit> {
         let mut metrics = true;
         for _ in 0..PASSES {
             if !(u > 0.0 && u.is_finite()) {
@@ -399,7 +401,15 @@ impl Prepared {
                 if let Some(total) = nll {
                     m.logloss = total(next) / sums.games;
                 }
-                return Some((vec![1.0 / next], m, m.logloss * sums.games, g));
+                return Some(LinearFit {
+                    r: 1.0 / next,
+                    metrics: m,
+                    at: Found {
+                        u: next,
+                        loss: m.logloss * sums.games,
+                        gradient: g,
+                    },
+                });
             }
             u += delta;
             metrics = delta.abs() <= 1e-6 * u;

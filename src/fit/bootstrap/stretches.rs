@@ -137,12 +137,13 @@ impl Stretches {
             curvature += c * row[0];
             beyond += c * row[1];
         }
-        let (mut exact, mut floors) = (Vec::new(), Vec::new());
-        for (b, &floor) in self.exact.iter().zip(&self.floors) {
+        // The drawn exact rows, and the least they can pay together.
+        let (mut exact, mut floor) = (Vec::new(), 0.0);
+        for (b, &least) in self.exact.iter().zip(&self.floors) {
             let c = counts[b.row];
             if c != 0.0 {
                 exact.push((c, b));
-                floors.push(c * floor);
+                floor += c * least;
             }
         }
         // Past `top` no row pays less than its least loss there.
@@ -189,7 +190,6 @@ impl Stretches {
             let d = vertex - u_star;
             rest + slope * d + 0.5 * curvature * d * d
         };
-        let mut floor: f64 = floors.iter().sum();
         let mut lo = 0.0;
         let mut lowest: Option<(f64, f64, f64)> = None;
         for k in 0..=exact.len() {

@@ -92,9 +92,9 @@ pub fn stretch_minimum(
     if !(ga < 0.0 && gb > 0.0) {
         return None;
     }
-    // The start: the ends' tangent roots (both above the root where the derivative is convex,
-    // both below where it is concave) give the nearer of the two that lies inside, else the
-    // secant.
+    // The start: the ends' tangent roots, both above the root where the derivative is convex and
+    // both below where it is concave (the secant's root lies on the other side, which tells the
+    // two apart): the nearer of those inside, else the secant's.
     let secant = |a: f64, ga: f64, b: f64, gb: f64| a - ga * (b - a) / (gb - ga);
     let (na, nb) = (a - ga / ha, b - gb / hb);
     let within = |x: f64, a: f64, b: f64| x > a && x < b;
@@ -123,16 +123,16 @@ pub fn stretch_minimum(
         } else {
             (b, gb) = (u, g);
         }
-        // Newton where it stays inside the bracket; else the bracket's secant, or bisection
-        // when the secant stalls (it moves one end only) or leaves it.
+        // Newton where it stays inside the bracket, else the bracket's secant; bisection when
+        // that leaves the bracket or is not half the step before (a secant that keeps moving one
+        // end only).
         let newton = u - g / h;
-        let step_was = previous;
         let mut next = if h > 0.0 && within(newton, a, b) {
             newton
         } else {
             secant(a, ga, b, gb)
         };
-        if !within(next, a, b) || (next - u).abs() > 0.5 * step_was {
+        if !within(next, a, b) || (next - u).abs() > 0.5 * previous {
             next = 0.5 * (a + b);
         }
         if (next - u).abs() <= tol * u || b - a <= tol * u {
