@@ -14,7 +14,7 @@
 //! information matrix not safely positive definite, a p̂ at the log-loss clamp) returns `None` for
 //! the general solver.
 
-use super::series::{logistic_derivative_polys, shifted_logistic};
+use super::series::{logistic_derivative_polys, shifted_logistic, shifted_logistic_squared};
 use crate::data::Table;
 use crate::fit::loss::{Metrics, Sums, row_nll};
 use crate::model::logistic;
@@ -214,13 +214,14 @@ impl PortSeries {
         scratch: &mut Vec<f64>,
     ) -> Pass {
         let delta = [theta[0] - self.theta0[0], theta[1] - self.theta0[1]];
-        if self.reach(delta) <= 0.125 {
-            shifted_logistic(
-                &self.e_start,
-                drawn,
-                |i| -(delta[0] * self.x[i][0] + delta[1] * self.x[i][1]),
-                scratch,
-            );
+        let reach = self.reach(delta);
+        let z = |i: usize| -(delta[0] * self.x[i][0] + delta[1] * self.x[i][1]);
+        if reach <= 0.125 {
+            shifted_logistic(&self.e_start, drawn, z, scratch);
+        } else if reach <= 0.5 {
+            // A fifth of the resamples move this far (the parameters are loosely determined
+            // along Pythagenport's valley); exp(z) = exp(z/4)⁴ keeps them off exp.
+            shifted_logistic_squared::<2>(&self.e_start, drawn, z, scratch);
         } else {
             scratch.clear();
             scratch.extend(drawn.iter().map(|&i| {

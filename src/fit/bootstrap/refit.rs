@@ -17,8 +17,8 @@
 //! [`super::stretches`]; see [`Prepared::refit`].
 //!
 //! A prediction is only a start: the result is the point where an exact Newton step (for
-//! PythagenPat the derivatives [`crate::fit::solve::newton`] uses, from [`logit_derivatives`]) is
-//! within 1e-12 of its parameter, the metrics are those of the pass that took that step, and any
+//! PythagenPat the derivatives [`crate::fit::solve::newton`] uses, from [`logit_derivatives`],
+//! computed without exp by [`exact::pythagenpat_pass`] near z0) is within 1e-12 of its parameter, the metrics are those of the pass that took that step, and any
 //! doubt (a Hessian not positive definite, a p̂ at the log-loss clamp, no convergence in
 //! [`PASSES`] passes) returns `None`, and the caller runs the general solver.
 
@@ -69,6 +69,9 @@ pub struct Prepared {
     window: Option<Window>,
     /// The linear model's rows for its exact pass (empty for PythagenPat).
     packed: Vec<exact::Packed>,
+    /// PythagenPat's rows for its exact pass (empty for the linear model), and their bounds.
+    pat: Vec<exact::PatPacked>,
+    pat_bounds: [f64; 2],
 }
 
 /// Truncated power-series product (coefficients 0..N).
@@ -183,6 +186,12 @@ impl Prepared {
             .then(|| Stretches::new(t, 1.0 / theta0[0]))
             .flatten();
         let window = stretches.is_some().then(|| Window::new(t, 1.0 / theta0[0]));
+        let pat = if kind == ModelKind::Pythagenpat {
+            exact::pack_pythagenpat(t, theta0[0])
+        } else {
+            Vec::new()
+        };
+        let pat_bounds = exact::pat_bounds(&pat);
         Some(Prepared {
             kind,
             theta0: theta0[0],
@@ -194,6 +203,8 @@ impl Prepared {
             } else {
                 Vec::new()
             },
+            pat,
+            pat_bounds,
         })
     }
 
@@ -383,7 +394,8 @@ impl Prepared {
             if !(u > 0.0 && u.is_finite()) {
                 return None;
             }
-            let pass = exact::pass(&self.packed, counts, drawn, u, metrics, nll.is_none());
+            let kernel = exact::Linear { u };
+            let pass = exact::pass(&kernel, &self.packed, counts, drawn, metrics, nll.is_none());
             if pass.edge <= EDGE {
                 return None;
             }
@@ -434,14 +446,30 @@ impl Prepared {
             // (PythagenPat's radius is about 1/ln RPG, far beyond a resample's move) when its own
             // prediction passed the exact check.
             let by_series = nll.filter(|_| n == 0 && theta == predicted);
-            let pass = self.pass(t, theta, counts, drawn, metrics, by_series.is_some());
-            let h = pass.hessian;
-            if !(h > 0.0 && pass.gradient.is_finite()) {
+            let d = theta - self.theta0;
+            let fast = exact::pythagenpat_pass(
+                &self.pat,
+                counts,
+                drawn,
+                d,
+                self.pat_bounds,
+                metrics,
+                by_series.is_none(),
+            );
+            let (gradient, h, sums) = match fast {
+                Some(pass) if pass.edge <= EDGE => return None,
+                Some(pass) => (pass.gradient, pass.hessian, pass.sums),
+                None => {
+                    let pass = self.pass(t, theta, counts, drawn, metrics, by_series.is_some());
+                    (pass.gradient, pass.hessian, pass.sums)
+                }
+            };
+            if !(h > 0.0 && gradient.is_finite()) {
                 return None;
             }
-            let delta = -pass.gradient / h;
+            let delta = -gradient / h;
             let small = delta.abs() <= 1e-12 * theta.abs().max(1.0);
-            if let (true, Some(sums)) = (small, pass.sums.as_ref()) {
+            if let (true, Some(sums)) = (small, sums.as_ref()) {
                 let param = theta + delta;
                 let mut m = sums.metrics();
                 if let Some(total) = by_series {

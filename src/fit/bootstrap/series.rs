@@ -2,6 +2,7 @@
 //! exponent, from which a resample's optimum and log-loss follow by dot products, and the exact
 //! Newton check that decides whether the prediction stands.
 
+use super::exact::exp_m1;
 use crate::data::Table;
 use crate::fit::loss::{Metrics, Sums, row_nll};
 use crate::model::pythagorean_pct;
@@ -35,11 +36,6 @@ pub struct PythagoreanSeries {
 
 /// Rows per step of [`PythagoreanSeries::predictions`].
 const LANES: usize = 8;
-
-/// 0!, 1!, …, 9!.
-const FACTORIALS: [f64; 10] = [
-    1.0, 1.0, 2.0, 6.0, 24.0, 120.0, 720.0, 5040.0, 40320.0, 362_880.0,
-];
 
 /// Sums over a resample's rows of every series column, counted with their multiplicities.
 #[derive(Debug, Clone, Copy)]
@@ -95,8 +91,8 @@ impl PythagoreanSeries {
     }
 
     /// p̂ at exponent x of each row in `drawn`, into `out`, without calling exp:
-    /// exp(−x·l) = exp(−x0·l)·exp(−(x − x0)·l), the second factor a degree-10 Taylor polynomial,
-    /// which is exact to rounding while |(x − x0)·l| ≤ 1/8 (the remainder is below 3e-18), and
+    /// exp(−x·l) = exp(−x0·l)·exp(−(x − x0)·l), the second factor a degree-11 Taylor polynomial,
+    /// which is exact to rounding while |(x − x0)·l| ≤ 1/8 (the remainder is below 3e-19), and
     /// which vectorises where exp, a call, does not. `false` (and nothing written) beyond that.
     pub fn predictions(&self, x: f64, drawn: &[u32], out: &mut Vec<f64>) -> bool {
         let d = x - self.x0;
@@ -143,17 +139,30 @@ pub(super) fn logistic_derivative_polys(order: usize) -> Vec<Vec<f64>> {
 }
 
 /// p̂ = 1/(1 + e·exp(z)) of each row in `drawn`, into `out`, with e = `e_start[i]` (exp(−η) at the
-/// start) and z = `z(i)` the change of −η, |z| ≤ 1/8 (the caller's bound): exp(z) is a degree-10
-/// Taylor polynomial there, exact to rounding (the remainder is below 3e-18), and it vectorises
-/// where exp, a call, does not.
+/// start) and z = `z(i)` the change of −η, |z| ≤ 1/8 (the caller's bound): exp(z) is a degree-11
+/// Taylor polynomial there ([`exp_m1`]), exact to rounding (the remainder is below 3e-19), and it
+/// vectorises where exp, a call, does not.
 pub(super) fn shifted_logistic(
     e_start: &[f64],
     drawn: &[u32],
     z: impl Fn(usize) -> f64,
     out: &mut Vec<f64>,
 ) {
+    shifted_logistic_squared::<0>(e_start, drawn, z, out);
+}
+
+/// [`shifted_logistic`] for |z| ≤ 2ᴴ/8: exp(z) = exp(z/2ᴴ)^(2ᴴ), the polynomial at z/2ᴴ squared H
+/// times. Each squaring doubles the polynomial's relative rounding error, so the result is within
+/// 2ᴴ⁺¹ units in the last place of exp(z) (H ≤ 2: a few parts in 10¹⁶).
+pub(super) fn shifted_logistic_squared<const H: u32>(
+    e_start: &[f64],
+    drawn: &[u32],
+    z: impl Fn(usize) -> f64,
+    out: &mut Vec<f64>,
+) {
     out.clear();
-    // Eight rows at a time: their Horner steps are independent, so they fill the vector lanes
+    let scale = 1.0 / f64::from(1u32 << H);
+    // Eight rows at a time: their polynomials are independent, so they fill the vector lanes
     // and hide each other's latency.
     for rows in drawn.chunks(LANES) {
         let (mut zs, mut e) = ([0.0; LANES], [0.0; LANES]);
@@ -161,16 +170,13 @@ pub(super) fn shifted_logistic(
             zs[j] = z(i as usize);
             e[j] = e_start[i as usize];
         }
-        // Horner's rule for Σ zᵏ/k!, k ≤ 10.
-        let mut poly = [1.0 / 3_628_800.0; LANES];
-        for k in (0..10).rev() {
-            for j in 0..LANES {
-                poly[j] = poly[j] * zs[j] + 1.0 / FACTORIALS[k];
-            }
-        }
         let mut p = [0.0; LANES];
         for j in 0..LANES {
-            p[j] = 1.0 / (1.0 + e[j] * poly[j]);
+            let mut ez = 1.0 + exp_m1(zs[j] * scale);
+            for _ in 0..H {
+                ez *= ez;
+            }
+            p[j] = 1.0 / (1.0 + e[j] * ez);
         }
         out.extend_from_slice(&p[..rows.len()]);
     }
