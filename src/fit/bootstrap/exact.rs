@@ -17,17 +17,30 @@ use crate::fit::loss::{LOGLOSS_CLAMP, Sums, row_nll};
 /// D, W, L, win%, weight, decisions, season games, and a pad to 64 bytes.
 pub type Packed = [f64; 8];
 
+/// W, L, win%, weight, decisions and season games of row `i`: every pass's columns but the model's.
+fn outcome(t: &Table, i: usize) -> [f64; 6] {
+    [
+        t.wins[i],
+        t.losses[i],
+        t.win_pct[i],
+        t.weight[i],
+        t.decisions[i],
+        t.games[i],
+    ]
+}
+
 pub fn pack(t: &Table) -> Vec<Packed> {
     (0..t.len())
         .map(|i| {
+            let [w, losses, pct, weight, decisions, games] = outcome(t, i);
             [
                 t.diff_per_game[i],
-                t.wins[i],
-                t.losses[i],
-                t.win_pct[i],
-                t.weight[i],
-                t.decisions[i],
-                t.games[i],
+                w,
+                losses,
+                pct,
+                weight,
+                decisions,
+                games,
                 0.0,
             ]
         })
@@ -133,17 +146,19 @@ pub fn pack_pythagenpat(t: &Table, z0: f64) -> Vec<PatPacked> {
             } else {
                 f64::INFINITY
             };
+            let [w, losses, pct, weight, decisions, games] = outcome(t, i);
+            let slope = f64::from(u8::from(finite));
             [
                 eta0,
                 t.ln_rpg[i],
                 e,
-                t.wins[i],
-                t.losses[i],
-                t.win_pct[i],
-                t.weight[i],
-                t.decisions[i],
-                t.games[i],
-                f64::from(u8::from(finite)),
+                w,
+                losses,
+                pct,
+                weight,
+                decisions,
+                games,
+                slope,
             ]
         })
         .collect()
@@ -171,39 +186,32 @@ pub(crate) fn pythagenpat_pass(
     let s = d.abs() * bounds[1];
     let shift = bounds[0] * d.abs() * s.exp();
     // NaN (a NaN d) fails every test below and falls back too.
-    let pass = if s > 0.125 || s.is_nan() {
-        return None;
+    let args = (rows, counts, drawn, metrics, with_nll);
+    if s > 0.125 || s.is_nan() {
+        None
     } else if shift <= 0.125 {
-        pass(
-            &Pythagenpat::<0> { d },
-            rows,
-            counts,
-            drawn,
-            metrics,
-            with_nll,
-        )
+        Some(squared::<0>(d, args))
     } else if shift <= 0.25 {
-        pass(
-            &Pythagenpat::<1> { d },
-            rows,
-            counts,
-            drawn,
-            metrics,
-            with_nll,
-        )
+        Some(squared::<1>(d, args))
     } else if shift <= 0.5 {
-        pass(
-            &Pythagenpat::<2> { d },
-            rows,
-            counts,
-            drawn,
-            metrics,
-            with_nll,
-        )
+        Some(squared::<2>(d, args))
     } else {
-        return None;
-    };
-    Some(pass)
+        None
+    }
+}
+
+/// [`pythagenpat_pass`] with H squarings: rows, counts, drawn, metrics, with_nll.
+type PatArgs<'a> = (&'a [PatPacked], &'a [f64], &'a [u32], bool, bool);
+
+fn squared<const H: u32>(d: f64, (rows, counts, drawn, metrics, with_nll): PatArgs<'_>) -> Pass {
+    pass(
+        &Pythagenpat::<H> { d },
+        rows,
+        counts,
+        drawn,
+        metrics,
+        with_nll,
+    )
 }
 
 /// max |η0·ln RPG| and max |ln RPG| over PythagenPat's rows.
