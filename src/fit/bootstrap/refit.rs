@@ -18,8 +18,8 @@
 //!
 //! A prediction is only a start: the result is the point where an exact Newton step (for
 //! PythagenPat the derivatives [`crate::fit::solve::newton`] uses, from [`logit_derivatives`],
-//! computed without exp by [`exact::pythagenpat_pass`] near z0) is within 1e-12 of its parameter, the metrics are those of the pass that took that step, and any
-//! doubt (a Hessian not positive definite, a p̂ at the log-loss clamp, no convergence in
+//! computed without exp by [`exact::pythagenpat_pass`] near z0) is within 1e-12 of its parameter,
+//! the metrics are those of the pass that took that step, and any doubt (a Hessian not positive definite, a p̂ at the log-loss clamp, no convergence in
 //! [`PASSES`] passes) returns `None`, and the caller runs the general solver.
 
 use crate::data::Table;

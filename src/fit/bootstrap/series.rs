@@ -2,7 +2,7 @@
 //! exponent, from which a resample's optimum and log-loss follow by dot products, and the exact
 //! Newton check that decides whether the prediction stands.
 
-use super::exact::exp_m1;
+use super::exact::exp_squared;
 use crate::data::Table;
 use crate::fit::loss::{Metrics, Sums, row_nll};
 use crate::model::pythagorean_pct;
@@ -140,8 +140,8 @@ pub(super) fn logistic_derivative_polys(order: usize) -> Vec<Vec<f64>> {
 
 /// p̂ = 1/(1 + e·exp(z)) of each row in `drawn`, into `out`, with e = `e_start[i]` (exp(−η) at the
 /// start) and z = `z(i)` the change of −η, |z| ≤ 1/8 (the caller's bound): exp(z) is a degree-11
-/// Taylor polynomial there ([`exp_m1`]), exact to rounding (the remainder is below 3e-19), and it
-/// vectorises where exp, a call, does not.
+/// Taylor polynomial there ([`super::exact::exp_m1`]), exact to rounding (the remainder is below
+/// 3e-19), and it vectorises where exp, a call, does not.
 pub(super) fn shifted_logistic(
     e_start: &[f64],
     drawn: &[u32],
@@ -151,9 +151,7 @@ pub(super) fn shifted_logistic(
     shifted_logistic_squared::<0>(e_start, drawn, z, out);
 }
 
-/// [`shifted_logistic`] for |z| ≤ 2ᴴ/8: exp(z) = exp(z/2ᴴ)^(2ᴴ), the polynomial at z/2ᴴ squared H
-/// times. Each squaring doubles the polynomial's relative rounding error, so the result is within
-/// 2ᴴ⁺¹ units in the last place of exp(z) (H ≤ 2: a few parts in 10¹⁶).
+/// [`shifted_logistic`] for |z| ≤ 2ᴴ/8, exp(z) by [`exp_squared`].
 pub(super) fn shifted_logistic_squared<const H: u32>(
     e_start: &[f64],
     drawn: &[u32],
@@ -161,7 +159,6 @@ pub(super) fn shifted_logistic_squared<const H: u32>(
     out: &mut Vec<f64>,
 ) {
     out.clear();
-    let scale = 1.0 / f64::from(1u32 << H);
     // Eight rows at a time: their polynomials are independent, so they fill the vector lanes
     // and hide each other's latency.
     for rows in drawn.chunks(LANES) {
@@ -172,11 +169,7 @@ pub(super) fn shifted_logistic_squared<const H: u32>(
         }
         let mut p = [0.0; LANES];
         for j in 0..LANES {
-            let mut ez = 1.0 + exp_m1(zs[j] * scale);
-            for _ in 0..H {
-                ez *= ez;
-            }
-            p[j] = 1.0 / (1.0 + e[j] * ez);
+            p[j] = 1.0 / (1.0 + e[j] * exp_squared::<H>(zs[j]));
         }
         out.extend_from_slice(&p[..rows.len()]);
     }
