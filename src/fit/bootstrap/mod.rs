@@ -2,6 +2,7 @@
 //! arrays (no copies of the table); resample `b` draws from its own ChaCha stream, so results are
 //! identical for a seed whatever the number of threads.
 
+mod columns;
 pub mod exact;
 pub mod pythagenport;
 pub mod refit;
@@ -292,10 +293,12 @@ struct Refitter<'f> {
 }
 
 impl<'f> Refitter<'f> {
-    fn new(t: &Table, fit: &'f ModelFit) -> Refitter<'f> {
+    /// `seasons`: each season's rows, under season resampling (the predictions' sums are then
+    /// taken by season).
+    fn new(t: &Table, fit: &'f ModelFit, seasons: Option<&[Vec<usize>]>) -> Refitter<'f> {
         let (kind, start) = (fit.model.kind, &fit.model.params);
         let logloss = fit.loss == Loss::Logloss;
-        Refitter {
+        let mut out = Refitter {
             fit,
             taylor_series: (kind == ModelKind::Pythagorean && logloss)
                 .then(|| PythagoreanSeries::new(t, start[0]))
@@ -304,7 +307,19 @@ impl<'f> Refitter<'f> {
                 .then(|| PortSeries::new(t, start))
                 .flatten(),
             prepared: logloss.then(|| Prepared::new(t, kind, start)).flatten(),
+        };
+        if let Some(seasons) = seasons {
+            if let Some(s) = out.taylor_series.as_mut() {
+                s.by_season(seasons);
+            }
+            if let Some(s) = out.port_series.as_mut() {
+                s.by_season(seasons);
+            }
+            if let Some(p) = out.prepared.as_mut() {
+                p.by_season(seasons);
+            }
         }
+        out
     }
 
     /// The resample in `s.counts`, refitted.
@@ -341,7 +356,11 @@ pub fn run_all(
             "--resample season needs at least 2 seasons".to_string(),
         ));
     }
-    let refitters: Vec<Refitter<'_>> = fits.iter().map(|f| Refitter::new(t, f)).collect();
+    let by_season = (opts.resample == Resample::Season).then_some(seasons.as_slice());
+    let refitters: Vec<Refitter<'_>> = fits
+        .iter()
+        .map(|f| Refitter::new(t, f, by_season))
+        .collect();
     let draws: Vec<Vec<Draw>> = (0..opts.resamples)
         .into_par_iter()
         .map_init(Scratch::default, |s, b| {
@@ -434,7 +453,11 @@ mod tests {
             let seasons = season_index(&rows);
             let full = crate::fit::fit_model(&t, ModelKind::Pythagorean, Loss::Logloss).unwrap();
             let start = full.model.params;
-            let series = PythagoreanSeries::new(&t, start[0]).unwrap();
+            let mut series = PythagoreanSeries::new(&t, start[0]).unwrap();
+            // As `run_all` does: season resamples sum the series by season.
+            if resample == Resample::Season {
+                series.by_season(&seasons);
+            }
             let mut s = Scratch::default();
             let mut predicted = 0;
             for b in 0..200 {
@@ -481,10 +504,15 @@ mod tests {
             ] {
                 let full = crate::fit::fit_model(&t, kind, Loss::Logloss).unwrap();
                 let start = full.model.params;
-                let prepared = Prepared::new(&t, kind, &start);
-                let port = (kind == ModelKind::Pythagenport)
+                let mut prepared = Prepared::new(&t, kind, &start);
+                let mut port = (kind == ModelKind::Pythagenport)
                     .then(|| PortSeries::new(&t, &start))
                     .flatten();
+                // As `run_all` does: season resamples sum the predictions' series by season.
+                if resample == Resample::Season {
+                    prepared.iter_mut().for_each(|p| p.by_season(&season_rows));
+                    port.iter_mut().for_each(|p| p.by_season(&season_rows));
+                }
                 assert!(
                     prepared.is_some() != port.is_some(),
                     "{kind}: one fast path"

@@ -14,6 +14,7 @@
 //! information matrix not safely positive definite, a p̂ at the log-loss clamp) returns `None` for
 //! the general solver.
 
+use super::columns::{self, BySeason};
 use super::series::{logistic_derivative_polys, shifted_logistic, shifted_logistic_squared};
 use crate::data::Table;
 use crate::fit::loss::{Metrics, Sums, row_nll};
@@ -51,6 +52,8 @@ pub struct PortSeries {
     x: Vec<[f64; 2]>,
     /// exp(−η0) of each row.
     e_start: Vec<f64>,
+    /// `rows` summed by season, under season resampling.
+    by_season: Option<BySeason<WIDTH>>,
 }
 
 /// One exact pass at θ.
@@ -122,7 +125,13 @@ impl PortSeries {
             rows,
             x: xs,
             e_start,
+            by_season: None,
         })
+    }
+
+    /// For season resampling: the column sums by season (`seasons`: each season's rows).
+    pub fn by_season(&mut self, seasons: &[Vec<usize>]) {
+        self.by_season = Some(BySeason::new(seasons, |i| self.rows[i]));
     }
 
     /// Bound of |δ·x| over every row.
@@ -136,14 +145,7 @@ impl PortSeries {
 
     /// The resample's log-loss polynomial (count-weighted column sums).
     fn sums(&self, counts: &[f64], drawn: &[u32]) -> [f64; WIDTH] {
-        let mut s = [0.0; WIDTH];
-        for &i in drawn {
-            let (c, row) = (counts[i as usize], &self.rows[i as usize]);
-            for (s, &r) in s.iter_mut().zip(row) {
-                *s += c * r;
-            }
-        }
-        s
+        columns::sums(&self.rows, self.by_season.as_ref(), counts, drawn)
     }
 
     /// The polynomial's value, gradient and Hessian at δ.

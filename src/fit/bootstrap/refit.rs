@@ -26,6 +26,7 @@ use crate::data::Table;
 use crate::fit::loss::{Metrics, Sums, row_nll};
 use crate::model::{ModelKind, Row, logit_derivatives, predict};
 
+use super::columns::{self, BySeason};
 use super::exact;
 use super::stretches::{self, Found, Stretches, Verdict};
 use super::window::{SEARCH_TOL, Window};
@@ -72,6 +73,8 @@ pub struct Prepared {
     /// PythagenPat's rows for its exact pass (empty for the linear model), and their bounds.
     pat: Vec<exact::PatPacked>,
     pat_bounds: [f64; 2],
+    /// `rows` summed by season, under season resampling.
+    by_season: Option<BySeason<WIDTH>>,
 }
 
 /// Truncated power-series product (coefficients 0..N).
@@ -205,19 +208,23 @@ impl Prepared {
             },
             pat,
             pat_bounds,
+            by_season: None,
         })
+    }
+
+    /// For season resampling: the column sums by season (`seasons`: each season's rows), the
+    /// series' and the window's.
+    pub fn by_season(&mut self, seasons: &[Vec<usize>]) {
+        self.by_season = Some(BySeason::new(seasons, |i| self.rows[i]));
+        if let Some(w) = self.window.as_mut() {
+            w.by_season(seasons);
+        }
     }
 
     /// The predicted optimum of a resample: the root of its score polynomial nearest θ0, with the
     /// polynomial's coefficients. `None` when the prediction finds no minimum.
     fn predict(&self, counts: &[f64], drawn: &[u32]) -> Option<(f64, [f64; WIDTH])> {
-        let mut s = [0.0; WIDTH];
-        for &i in drawn {
-            let (c, row) = (counts[i as usize], &self.rows[i as usize]);
-            for (s, &r) in s.iter_mut().zip(row) {
-                *s += c * r;
-            }
-        }
+        let s = columns::sums(&self.rows, self.by_season.as_ref(), counts, drawn);
         let t0 = self.theta0;
         let mut d = 0.0;
         for _ in 0..30 {

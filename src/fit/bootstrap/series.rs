@@ -2,6 +2,7 @@
 //! exponent, from which a resample's optimum and log-loss follow by dot products, and the exact
 //! Newton check that decides whether the prediction stands.
 
+use super::columns::{self, BySeason};
 use super::exact::exp_squared;
 use crate::data::Table;
 use crate::fit::loss::{Metrics, Sums, row_nll};
@@ -32,6 +33,8 @@ pub struct PythagoreanSeries {
     slopes: Vec<f64>,
     /// …and exp(−x0·l): 0 for l = +∞ (p̂ = 1), +∞ for l = −∞ (p̂ = 0).
     e_start: Vec<f64>,
+    /// `rows` summed by season, under season resampling.
+    by_season: Option<BySeason<WIDTH>>,
 }
 
 /// Rows per step of [`PythagoreanSeries::predictions`].
@@ -87,7 +90,13 @@ impl PythagoreanSeries {
             rows,
             slopes,
             e_start,
+            by_season: None,
         })
+    }
+
+    /// For season resampling: the column sums by season (`seasons`: each season's rows).
+    pub fn by_season(&mut self, seasons: &[Vec<usize>]) {
+        self.by_season = Some(BySeason::new(seasons, |i| self.rows[i]));
     }
 
     /// p̂ at exponent x of each row in `drawn`, into `out`, without calling exp:
@@ -106,17 +115,10 @@ impl PythagoreanSeries {
 
     /// Column sums over `drawn` (the rows whose count is not zero), each row `counts[i]` times.
     pub fn sums(&self, counts: &[f64], drawn: &[u32]) -> SeriesSums {
-        let mut sums = [0.0; WIDTH];
-        for &i in drawn {
-            let (c, row) = (counts[i as usize], &self.rows[i as usize]);
-            for (s, &r) in sums.iter_mut().zip(row) {
-                *s += c * r;
-            }
-        }
         SeriesSums {
             x0: self.x0,
             ln_ratio_max: self.ln_ratio_max,
-            sums,
+            sums: columns::sums(&self.rows, self.by_season.as_ref(), counts, drawn),
         }
     }
 }

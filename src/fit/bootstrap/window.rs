@@ -11,6 +11,7 @@
 //! What it finds is only a start: the caller checks it with an exact Newton pass over every drawn
 //! row and proves it lowest with [`super::stretches`].
 
+use super::columns::BySeason;
 use crate::data::Table;
 use crate::fit::loss::row_nll;
 use crate::fit::solve::pieces;
@@ -44,6 +45,8 @@ pub struct Window {
     mid: Vec<(u32, [f64; WIDTH])>,
     /// The rows taken exactly, ascending.
     near: Vec<u32>,
+    /// The far and mid rows' series summed by season, under season resampling.
+    by_season: Option<BySeason<WIDTH>>,
 }
 
 /// One resample's sums: the series rows' coefficients and its drawn near rows (count, row).
@@ -90,7 +93,26 @@ impl Window {
                 mid.push((i as u32, out));
             }
         }
-        Window { u0, far, mid, near }
+        Window {
+            u0,
+            far,
+            mid,
+            near,
+            by_season: None,
+        }
+    }
+
+    /// For season resampling: the series rows' sums by season (`seasons`: each season's rows).
+    pub fn by_season(&mut self, seasons: &[Vec<usize>]) {
+        let mut full = vec![[0.0; WIDTH]; self.far.len()];
+        for (i, f) in self.far.iter().enumerate() {
+            full[i][..=FAR_ORDER].copy_from_slice(&f[..=FAR_ORDER]);
+            full[i][NLL] = f[FAR_ORDER + 1];
+        }
+        for (i, row) in &self.mid {
+            full[*i as usize] = *row;
+        }
+        self.by_season = Some(BySeason::new(seasons, |i| full[i]));
     }
 
     /// The window, in u.
@@ -99,6 +121,18 @@ impl Window {
     }
 
     pub fn sums(&self, counts: &[f64], drawn: &[u32]) -> Sums {
+        let near = self
+            .near
+            .iter()
+            .map(|&i| (counts[i as usize], i as usize))
+            .filter(|&(c, _)| c != 0.0)
+            .collect();
+        if let Some(b) = &self.by_season {
+            return Sums {
+                s: b.sums(counts),
+                near,
+            };
+        }
         let mut f = [0.0; FAR_WIDTH];
         for &i in drawn {
             let (c, row) = (counts[i as usize], self.far[i as usize]);
@@ -120,12 +154,6 @@ impl Window {
             *s += f;
         }
         s[NLL] += f[FAR_ORDER + 1];
-        let near = self
-            .near
-            .iter()
-            .map(|&i| (counts[i as usize], i as usize))
-            .filter(|&(c, _)| c != 0.0)
-            .collect();
         Sums { s, near }
     }
 
