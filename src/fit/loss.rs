@@ -143,7 +143,76 @@ pub(crate) struct Sums {
     pub(crate) season_games: f64,
 }
 
+/// The metrics' sums that depend on the row counts alone, not on the model: Σ c·weight,
+/// Σ c·decisions, Σ c and Σ c·season games. A bootstrap resample takes them once for every pass of
+/// every model.
+#[derive(Debug, Clone, Copy, Default)]
+pub(crate) struct Counted {
+    pub(crate) wsum: f64,
+    pub(crate) games: f64,
+    pub(crate) csum: f64,
+    pub(crate) season_games: f64,
+}
+
+impl Counted {
+    /// Over every row of `t`, row i counted `counts[i]` times (four rows side by side, in
+    /// separate lanes, added at the end).
+    pub(crate) fn of(t: &Table, counts: &[f64]) -> Counted {
+        const L: usize = 4;
+        let mut acc = [[0.0; L]; 4];
+        let n = counts.len().min(t.len());
+        let full = n / L * L;
+        for b in (0..full).step_by(L) {
+            for k in 0..L {
+                let (i, c) = (b + k, counts[b + k]);
+                acc[0][k] += c * t.weight[i];
+                acc[1][k] += c * t.decisions[i];
+                acc[2][k] += c;
+                acc[3][k] += c * t.games[i];
+            }
+        }
+        for (k, i) in (full..n).enumerate() {
+            let c = counts[i];
+            acc[0][k] += c * t.weight[i];
+            acc[1][k] += c * t.decisions[i];
+            acc[2][k] += c;
+            acc[3][k] += c * t.games[i];
+        }
+        let total = |a: &[f64; L]| a.iter().sum::<f64>();
+        Counted {
+            wsum: total(&acc[0]),
+            games: total(&acc[1]),
+            csum: total(&acc[2]),
+            season_games: total(&acc[3]),
+        }
+    }
+}
+
 impl Sums {
+    /// Sums whose count-only parts are `counted`'s (the rest added by [`Sums::add_scored`]).
+    pub(crate) fn counted(counted: &Counted) -> Sums {
+        Sums {
+            wsum: counted.wsum,
+            games: counted.games,
+            csum: counted.csum,
+            season_games: counted.season_games,
+            ..Sums::default()
+        }
+    }
+
+    /// The parts of [`Sums::add`] that depend on the prediction `p`: a row of win% `win_pct` and
+    /// weight `weight`, counted `c` times (the count-only parts come from [`Counted`]).
+    #[inline]
+    pub(crate) fn add_scored(&mut self, win_pct: f64, weight: f64, c: f64, p: f64, nll: f64) {
+        let e = win_pct - p;
+        let w = c * weight;
+        self.abs += w * e.abs();
+        self.sq += w * e * e;
+        self.nll += c * nll;
+        self.bias += w * e;
+        self.max_abs = self.max_abs.max(e.abs());
+    }
+
     /// Add row `i`, counted `c` times, with prediction `p` and negative log-likelihood `nll`.
     #[inline]
     pub(crate) fn add(&mut self, t: &Table, i: usize, c: f64, p: f64, nll: f64) {

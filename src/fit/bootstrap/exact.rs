@@ -11,8 +11,9 @@
 //!   rounding within 1/8; the second one's argument halved and the result squared up to twice
 //!   where it is larger), so the pass has no exp at all.
 
+use super::Resampled;
 use crate::data::Table;
-use crate::fit::loss::{LOGLOSS_CLAMP, Sums, row_nll};
+use crate::fit::loss::{Counted, LOGLOSS_CLAMP, Sums, row_nll};
 
 /// D, W, L, win%, weight, decisions, season games, and a pad to 64 bytes.
 pub type Packed = [f64; 8];
@@ -76,8 +77,9 @@ pub(crate) trait Kernel {
     type Row: Copy;
     /// One row counted `c` times (`c` = 0 adds nothing), inlined into the four-lane loop.
     fn row(&self, r: &Self::Row, c: f64) -> RowPass;
-    /// win%, weight, decisions and season games of the row (the metrics' other inputs).
-    fn shared(r: &Self::Row) -> [f64; 4];
+    /// win% and weight of the row (the metrics' other inputs; their count-only sums are the
+    /// resample's [`Counted`]).
+    fn shared(r: &Self::Row) -> [f64; 2];
     /// The row's negative log-likelihood (one count), for a pass that needs it.
     fn nll(&self, r: &Self::Row) -> f64;
 }
@@ -114,8 +116,8 @@ impl Kernel for Linear {
     }
 
     #[inline(always)]
-    fn shared(r: &Packed) -> [f64; 4] {
-        [r[3], r[4], r[5], r[6]]
+    fn shared(r: &Packed) -> [f64; 2] {
+        [r[3], r[4]]
     }
 
     fn nll(&self, r: &Packed) -> f64 {
@@ -176,8 +178,7 @@ pub(crate) struct Pythagenpat<const H: u32> {
 /// |η − η0| = |η0|·|exp(d·ln RPG) − 1| ≤ |η0·ln RPG|·|d|·exp(|d·ln RPG|).
 pub(crate) fn pythagenpat_pass(
     rows: &[PatPacked],
-    counts: &[f64],
-    drawn: &[u32],
+    r: Resampled<'_>,
     d: f64,
     bounds: [f64; 2],
     metrics: bool,
@@ -186,7 +187,7 @@ pub(crate) fn pythagenpat_pass(
     let s = d.abs() * bounds[1];
     let shift = bounds[0] * d.abs() * s.exp();
     // NaN (a NaN d) fails every test below and falls back too.
-    let args = (rows, counts, drawn, metrics, with_nll);
+    let args = (rows, r.counts, r.drawn, r.counted, metrics, with_nll);
     if s > 0.125 || s.is_nan() {
         None
     } else if shift <= 0.125 {
@@ -200,15 +201,26 @@ pub(crate) fn pythagenpat_pass(
     }
 }
 
-/// [`pythagenpat_pass`] with H squarings: rows, counts, drawn, metrics, with_nll.
-type PatArgs<'a> = (&'a [PatPacked], &'a [f64], &'a [u32], bool, bool);
+/// [`pythagenpat_pass`] with H squarings: rows, counts, drawn, counted, metrics, with_nll.
+type PatArgs<'a> = (
+    &'a [PatPacked],
+    &'a [f64],
+    &'a [u32],
+    &'a Counted,
+    bool,
+    bool,
+);
 
-fn squared<const H: u32>(d: f64, (rows, counts, drawn, metrics, with_nll): PatArgs<'_>) -> Pass {
+fn squared<const H: u32>(
+    d: f64,
+    (rows, counts, drawn, counted, metrics, with_nll): PatArgs<'_>,
+) -> Pass {
     pass(
         &Pythagenpat::<H> { d },
         rows,
         counts,
         drawn,
+        counted,
         metrics,
         with_nll,
     )
@@ -304,8 +316,8 @@ impl<const H: u32> Kernel for Pythagenpat<H> {
     }
 
     #[inline(always)]
-    fn shared(r: &PatPacked) -> [f64; 4] {
-        [r[5], r[6], r[7], r[8]]
+    fn shared(r: &PatPacked) -> [f64; 2] {
+        [r[5], r[6]]
     }
 
     fn nll(&self, r: &PatPacked) -> f64 {
@@ -322,15 +334,16 @@ pub(crate) fn pass<K: Kernel>(
     rows: &[K::Row],
     counts: &[f64],
     drawn: &[u32],
+    counted: &Counted,
     metrics: bool,
     with_nll: bool,
 ) -> Pass {
     #[cfg(target_arch = "x86_64")]
     if std::arch::is_x86_feature_detected!("avx2") {
         // SAFETY: the CPU has AVX2 (checked just above).
-        return unsafe { pass_avx2(kernel, rows, counts, drawn, metrics, with_nll) };
+        return unsafe { pass_avx2(kernel, rows, counts, drawn, counted, metrics, with_nll) };
     }
-    pass_generic(kernel, rows, counts, drawn, metrics, with_nll)
+    pass_generic(kernel, rows, counts, drawn, counted, metrics, with_nll)
 }
 
 /// [`pass_generic`] compiled for AVX2.
@@ -341,10 +354,11 @@ fn pass_avx2<K: Kernel>(
     rows: &[K::Row],
     counts: &[f64],
     drawn: &[u32],
+    counted: &Counted,
     metrics: bool,
     with_nll: bool,
 ) -> Pass {
-    pass_generic(kernel, rows, counts, drawn, metrics, with_nll)
+    pass_generic(kernel, rows, counts, drawn, counted, metrics, with_nll)
 }
 
 /// [`pass`] for any CPU; inlined, so that [`pass_avx2`] compiles it for AVX2.
@@ -354,13 +368,14 @@ fn pass_generic<K: Kernel>(
     rows: &[K::Row],
     counts: &[f64],
     drawn: &[u32],
+    counted: &Counted,
     metrics: bool,
     with_nll: bool,
 ) -> Pass {
     if metrics {
-        lanes::<K, true>(kernel, rows, counts, drawn, with_nll)
+        lanes::<K, true>(kernel, rows, counts, drawn, counted, with_nll)
     } else {
-        lanes::<K, false>(kernel, rows, counts, drawn, with_nll)
+        lanes::<K, false>(kernel, rows, counts, drawn, counted, with_nll)
     }
 }
 
@@ -372,11 +387,7 @@ struct Acc {
     edge: Lane,
     abs: Lane,
     sq: Lane,
-    wsum: Lane,
-    games: Lane,
     bias: Lane,
-    csum: Lane,
-    season: Lane,
     max_abs: Lane,
 }
 
@@ -401,16 +412,12 @@ impl Acc {
             };
             self.edge[k] = self.edge[k].min(clear);
             if METRICS {
-                let [win_pct, weight, decisions, games] = K::shared(r[k]);
+                let [win_pct, weight] = K::shared(r[k]);
                 let e = win_pct - one.p;
                 let wt = c[k] * weight;
                 self.abs[k] += wt * e.abs();
                 self.sq[k] += wt * e * e;
-                self.wsum[k] += wt;
-                self.games[k] += c[k] * decisions;
                 self.bias[k] += wt * e;
-                self.csum[k] += c[k];
-                self.season[k] += c[k] * games;
                 self.max_abs[k] = self.max_abs[k].max(e.abs() * live[k]);
             }
         }
@@ -423,6 +430,7 @@ fn lanes<K: Kernel, const METRICS: bool>(
     rows: &[K::Row],
     counts: &[f64],
     drawn: &[u32],
+    counted: &Counted,
     with_nll: bool,
 ) -> Pass {
     let zero: Lane = [0.0; LANES];
@@ -432,11 +440,7 @@ fn lanes<K: Kernel, const METRICS: bool>(
         edge: [f64::INFINITY; LANES],
         abs: zero,
         sq: zero,
-        wsum: zero,
-        games: zero,
         bias: zero,
-        csum: zero,
-        season: zero,
         max_abs: zero,
     };
     let mut chunks = drawn.chunks_exact(LANES);
@@ -476,13 +480,10 @@ fn lanes<K: Kernel, const METRICS: bool>(
         Sums {
             abs: total(&acc.abs),
             sq: total(&acc.sq),
-            wsum: total(&acc.wsum),
             nll,
-            games: total(&acc.games),
             bias: total(&acc.bias),
-            csum: total(&acc.csum),
             max_abs: acc.max_abs.iter().fold(0.0, |a: f64, &b| a.max(b)),
-            season_games: total(&acc.season),
+            ..Sums::counted(counted)
         }
     });
     Pass {
@@ -535,10 +536,16 @@ mod tests {
         let drawn: Vec<u32> = (0..t.len() as u32)
             .filter(|&i| counts[i as usize] > 0.0)
             .collect();
+        let counted = Counted::of(&t, &counts);
+        let r = Resampled {
+            counts: &counts,
+            drawn: &drawn,
+            counted: &counted,
+        };
         // The bootstrap SD of z on the Databank is about 0.003 (runcal fit --bootstrap): ±0.01 is
         // past three of them.
         for d in [-0.01, -1e-4, 0.0, 3e-3, 0.007, 0.01] {
-            let pass = pythagenpat_pass(&rows, &counts, &drawn, d, bounds, true, true).unwrap();
+            let pass = pythagenpat_pass(&rows, r, d, bounds, true, true).unwrap();
             let (mut g, mut h, mut nll) = (0.0, 0.0, 0.0);
             for &i in &drawn {
                 let i = i as usize;
@@ -569,9 +576,9 @@ mod tests {
         if std::arch::is_x86_feature_detected!("avx2") {
             for d in [-0.01, 0.0, 0.01] {
                 let kernel = Pythagenpat::<1> { d };
-                let a = pass_generic(&kernel, &rows, &counts, &drawn, true, true);
+                let a = pass_generic(&kernel, &rows, &counts, &drawn, &counted, true, true);
                 // SAFETY: the CPU has AVX2 (checked above).
-                let b = unsafe { pass_avx2(&kernel, &rows, &counts, &drawn, true, true) };
+                let b = unsafe { pass_avx2(&kernel, &rows, &counts, &drawn, &counted, true, true) };
                 let (sa, sb) = (a.sums.unwrap(), b.sums.unwrap());
                 assert_eq!(a.gradient.to_bits(), b.gradient.to_bits());
                 assert_eq!(a.hessian.to_bits(), b.hessian.to_bits());
@@ -582,6 +589,6 @@ mod tests {
             }
         }
         // Far from z0 the polynomials do not hold, and the caller falls back to exp.
-        assert!(pythagenpat_pass(&rows, &counts, &drawn, 0.1, bounds, true, true).is_none());
+        assert!(pythagenpat_pass(&rows, r, 0.1, bounds, true, true).is_none());
     }
 }

@@ -16,7 +16,7 @@ use rand::{Rng, RngExt, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
 
-use super::loss::{self, Loss, Metrics};
+use super::loss::{self, Counted, Loss, Metrics};
 use super::solve::{self, Problem};
 use super::{Intervals, ModelFit};
 use crate::data::{Table, TeamSeason};
@@ -156,6 +156,15 @@ pub fn weights(
     }
 }
 
+/// One resample as a fast path's pass reads it: the row counts, the rows drawn (count not zero,
+/// ascending) and the count-only sums.
+#[derive(Clone, Copy)]
+pub(crate) struct Resampled<'a> {
+    pub counts: &'a [f64],
+    pub drawn: &'a [u32],
+    pub counted: &'a Counted,
+}
+
 /// Per-thread buffers of one resample.
 #[derive(Default)]
 struct Scratch {
@@ -164,6 +173,8 @@ struct Scratch {
     drawn: Vec<u32>,
     /// p̂ of each drawn row.
     predictions: Vec<f64>,
+    /// The metrics' count-only sums.
+    counted: Counted,
 }
 
 impl Scratch {
@@ -192,6 +203,13 @@ impl Scratch {
     /// Indices of the rows drawn at least once into `drawn`, ascending. About a third of the rows
     /// are not drawn; branch-free compaction (always write the index, advance only past drawn rows)
     /// keeps that unpredictable branch out of the passes that follow.
+    /// After the counts of a new resample are drawn, and before any model's refit: the drawn rows
+    /// and the count-only sums, once for every model.
+    fn prepare(&mut self, t: &Table) {
+        self.compact();
+        self.counted = Counted::of(t, &self.counts);
+    }
+
     fn compact(&mut self) {
         let n = self.counts.len();
         self.drawn.clear();
@@ -206,14 +224,18 @@ impl Scratch {
 
     /// PythagenPat and linear log-loss: see [`refit`].
     fn refit(&mut self, t: &Table, prepared: &Prepared) -> Option<(Vec<f64>, Metrics)> {
-        self.compact();
-        prepared.refit(t, &self.counts, &self.drawn)
+        prepared.refit(t, &self.counts, &self.drawn, &self.counted)
     }
 
     /// Pythagenport log-loss: see [`pythagenport`].
     fn pythagenport(&mut self, t: &Table, series: &PortSeries) -> Option<(Vec<f64>, Metrics)> {
-        self.compact();
-        series.refit(t, &self.counts, &self.drawn, &mut self.predictions)
+        series.refit(
+            t,
+            &self.counts,
+            &self.drawn,
+            &self.counted,
+            &mut self.predictions,
+        )
     }
 
     /// The Pythagorean log-loss: the general path's numbers from one pass of exp over the rows
@@ -226,14 +248,16 @@ impl Scratch {
         t: &Table,
         series: &PythagoreanSeries,
     ) -> Option<(Vec<f64>, Metrics)> {
-        self.compact();
         let sums = series.sums(&self.counts, &self.drawn);
         let x = sums.optimum()?;
         let (m, step) = series::series_metrics(
             t,
             x,
-            &self.counts,
-            &self.drawn,
+            Resampled {
+                counts: &self.counts,
+                drawn: &self.drawn,
+                counted: &self.counted,
+            },
             &sums,
             series,
             &mut self.predictions,
@@ -372,6 +396,7 @@ pub fn run_all(
                 b,
                 &mut s.counts,
             );
+            s.prepare(t);
             let out: Vec<_> = refitters.iter().map(|r| r.refit(t, s)).collect();
             if let Some(progress) = opts.progress {
                 progress(refitters.len() as u64);
@@ -462,6 +487,7 @@ mod tests {
             let mut predicted = 0;
             for b in 0..200 {
                 weights(t.len(), &seasons, resample, 11, b, &mut s.counts);
+                s.prepare(&t);
                 let (gp, gm) = s
                     .general(&t, ModelKind::Pythagorean, Loss::Logloss, &start)
                     .unwrap();
@@ -521,6 +547,7 @@ mod tests {
                 let mut by_newton = 0; // resamples the fast path kept
                 for b in 0..60 {
                     weights(t.len(), &season_rows, resample, 3, b, &mut s.counts);
+                    s.prepare(&t);
                     let (gp, gm) = s.general(&t, kind, Loss::Logloss, &start).unwrap();
                     let fast = match (&prepared, &port) {
                         (Some(p), _) => s.refit(&t, p),

@@ -14,10 +14,11 @@
 //! information matrix not safely positive definite, a p̂ at the log-loss clamp) returns `None` for
 //! the general solver.
 
+use super::Resampled;
 use super::columns::{self, BySeason};
 use super::series::{logistic_derivative_polys, shifted_logistic, shifted_logistic_squared};
 use crate::data::Table;
-use crate::fit::loss::{Metrics, Sums, row_nll};
+use crate::fit::loss::{Counted, Metrics, Sums, row_nll};
 use crate::model::logistic;
 
 /// Highest power of δ kept in the log-loss polynomial.
@@ -210,11 +211,11 @@ impl PortSeries {
         &self,
         t: &Table,
         theta: [f64; 2],
-        counts: &[f64],
-        drawn: &[u32],
+        r: Resampled<'_>,
         series_nll: bool,
         scratch: &mut Vec<f64>,
     ) -> Pass {
+        let (counts, drawn) = (r.counts, r.drawn);
         let delta = [theta[0] - self.theta0[0], theta[1] - self.theta0[1]];
         let reach = self.reach(delta);
         let z = |i: usize| -(delta[0] * self.x[i][0] + delta[1] * self.x[i][1]);
@@ -235,7 +236,7 @@ impl PortSeries {
             gradient: [0.0; 2],
             hessian: [[0.0; 2]; 2],
             edge: f64::INFINITY,
-            sums: Sums::default(),
+            sums: Sums::counted(r.counted),
         };
         for (&i, &p) in drawn.iter().zip(scratch.iter()) {
             let i = i as usize;
@@ -254,19 +255,21 @@ impl PortSeries {
             } else {
                 row_nll(t.wins[i], t.losses[i], p)
             };
-            out.sums.add(t, i, c, p, nll);
+            out.sums.add_scored(t.win_pct[i], t.weight[i], c, p, nll);
         }
         out.hessian[1][0] = out.hessian[0][1];
         out
     }
 
     /// A resample's optimum and metrics, or `None` for the general solver. `drawn`: the rows whose
-    /// count is not zero, ascending; `scratch` holds their p̂.
-    pub fn refit(
+    /// count is not zero, ascending; `counted`: the resample's count-only sums; `scratch` holds
+    /// their p̂.
+    pub(crate) fn refit(
         &self,
         t: &Table,
         counts: &[f64],
         drawn: &[u32],
+        counted: &Counted,
         scratch: &mut Vec<f64>,
     ) -> Option<(Vec<f64>, Metrics)> {
         let s = self.sums(counts, drawn);
@@ -274,7 +277,12 @@ impl PortSeries {
         let mut theta = [self.theta0[0] + delta[0], self.theta0[1] + delta[1]];
         for n in 0..PASSES {
             let series_nll = n == 0;
-            let pass = self.pass(t, theta, counts, drawn, series_nll, scratch);
+            let r = Resampled {
+                counts,
+                drawn,
+                counted,
+            };
+            let pass = self.pass(t, theta, r, series_nll, scratch);
             if pass.edge <= EDGE {
                 return None;
             }

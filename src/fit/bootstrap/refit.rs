@@ -23,9 +23,10 @@
 //! [`PASSES`] passes) returns `None`, and the caller runs the general solver.
 
 use crate::data::Table;
-use crate::fit::loss::{Metrics, Sums, row_nll};
+use crate::fit::loss::{Counted, Metrics, Sums, row_nll};
 use crate::model::{ModelKind, Row, logit_derivatives, predict};
 
+use super::Resampled;
 use super::columns::{self, BySeason};
 use super::exact;
 use super::stretches::{self, Found, Stretches, Verdict};
@@ -295,17 +296,24 @@ impl Prepared {
 
     /// A resample's optimum and metrics (see the module notes), or `None` for the general solver.
     /// `drawn`: the rows whose count is not zero, ascending.
-    pub fn refit(&self, t: &Table, counts: &[f64], drawn: &[u32]) -> Option<(Vec<f64>, Metrics)> {
+    /// `counted`: the resample's count-only sums.
+    pub(crate) fn refit(
+        &self,
+        t: &Table,
+        counts: &[f64],
+        drawn: &[u32],
+        counted: &Counted,
+    ) -> Option<(Vec<f64>, Metrics)> {
         let Some(stretches) = &self.stretches else {
             if self.kind == ModelKind::Linear {
                 let theta = self.predict(counts, drawn).map_or(self.theta0, |p| p.0);
                 return self
-                    .linear_newton(counts, drawn, 1.0 / theta, None)
+                    .linear_newton(counts, drawn, counted, 1.0 / theta, None)
                     .map(LinearFit::result);
             }
             let (theta, series) = self.predict(counts, drawn)?;
             let nll = |param: f64| self.series_nll(&series, param);
-            return self.newton(t, counts, drawn, theta, Some(&nll));
+            return self.newton(t, counts, drawn, counted, theta, Some(&nll));
         };
         // The linear model: the lowest minimum inside the window, checked exactly; else Newton
         // from the series' prediction or the full-data optimum, and the stretch around it.
@@ -314,12 +322,12 @@ impl Prepared {
             let u = w.lowest(t, &sums)?;
             let (lo, hi) = w.bounds();
             let nll = |u: f64| w.value(t, &sums, u);
-            let found = self.linear_newton(counts, drawn, u, Some(&nll))?;
+            let found = self.linear_newton(counts, drawn, counted, u, Some(&nll))?;
             (found.at.u > lo && found.at.u < hi).then_some(found)
         });
         let mut found = match windowed {
             Some(found) => found,
-            None => self.unwindowed(t, counts, drawn, stretches)?,
+            None => self.unwindowed(t, counts, drawn, counted, stretches)?,
         };
         // A stretch that may hold a lower minimum is searched, and its minimum checked in turn:
         // lower, it is the new candidate; not lower, the stretch is ruled out. Four searches are
@@ -338,7 +346,7 @@ impl Prepared {
                     );
                     // No minimum inside (the bound dipped below, the loss did not): no verdict.
                     let u = u?;
-                    let other = self.linear_newton(counts, drawn, u, None)?;
+                    let other = self.linear_newton(counts, drawn, counted, u, None)?;
                     if other.at.loss < found.at.loss {
                         found = other;
                     } else {
@@ -359,10 +367,11 @@ impl Prepared {
         t: &Table,
         counts: &[f64],
         drawn: &[u32],
+        counted: &Counted,
         stretches: &Stretches,
     ) -> Option<LinearFit> {
         let theta = self.predict(counts, drawn).map_or(self.theta0, |p| p.0);
-        if let Some(found) = self.linear_newton(counts, drawn, 1.0 / theta, None) {
+        if let Some(found) = self.linear_newton(counts, drawn, counted, 1.0 / theta, None) {
             return Some(found);
         }
         let (lo, hi) = stretches.around(counts, 1.0 / self.theta0);
@@ -372,7 +381,7 @@ impl Prepared {
             hi,
             SEARCH_TOL,
         )?;
-        self.linear_newton(counts, drawn, u, None)
+        self.linear_newton(counts, drawn, counted, u, None)
     }
 
     /// Σ c·nll at θ from a resample's score series: Σ c·nll(θ0) + ∫ score from θ0, by Horner.
@@ -393,6 +402,7 @@ impl Prepared {
         &self,
         counts: &[f64],
         drawn: &[u32],
+        counted: &Counted,
         mut u: f64,
         nll: Option<&dyn Fn(f64) -> f64>,
     ) -> Option<LinearFit> {
@@ -402,7 +412,15 @@ impl Prepared {
                 return None;
             }
             let kernel = exact::Linear { u };
-            let pass = exact::pass(&kernel, &self.packed, counts, drawn, metrics, nll.is_none());
+            let pass = exact::pass(
+                &kernel,
+                &self.packed,
+                counts,
+                drawn,
+                counted,
+                metrics,
+                nll.is_none(),
+            );
             if pass.edge <= EDGE {
                 return None;
             }
@@ -442,6 +460,7 @@ impl Prepared {
         t: &Table,
         counts: &[f64],
         drawn: &[u32],
+        counted: &Counted,
         mut theta: f64,
         nll: Option<&dyn Fn(f64) -> f64>,
     ) -> Option<(Vec<f64>, Metrics)> {
@@ -456,8 +475,11 @@ impl Prepared {
             let d = theta - self.theta0;
             let fast = exact::pythagenpat_pass(
                 &self.pat,
-                counts,
-                drawn,
+                Resampled {
+                    counts,
+                    drawn,
+                    counted,
+                },
                 d,
                 self.pat_bounds,
                 metrics,

@@ -2,6 +2,7 @@
 //! exponent, from which a resample's optimum and log-loss follow by dot products, and the exact
 //! Newton check that decides whether the prediction stands.
 
+use super::Resampled;
 use super::columns::{self, BySeason};
 use super::exact::exp_squared;
 use crate::data::Table;
@@ -226,20 +227,20 @@ impl SeriesSums {
     }
 }
 
-/// [`crate::fit::loss::metrics`] of the Pythagorean model at exponent `x` for the bootstrap, with row multiplicities
-/// `counts`, reading only `rows` (the rows whose count is not zero, in ascending order), and the
-/// exact Newton step of the log-loss at `x`, with which the bootstrap checks its predicted optimum.
+/// [`crate::fit::loss::metrics`] of the Pythagorean model at exponent `x` for the bootstrap
+/// resample `r` (reading only its drawn rows), and the exact Newton step of the log-loss at `x`,
+/// with which the bootstrap checks its predicted optimum.
 /// The log-loss comes from `series`; the rest needs each row's p̂, one exp per row. `scratch` holds
 /// the p̂ of each row.
-pub fn series_metrics(
+pub(crate) fn series_metrics(
     t: &Table,
     x: f64,
-    counts: &[f64],
-    rows: &[u32],
+    r: Resampled<'_>,
     series: &SeriesSums,
     predictor: &PythagoreanSeries,
     scratch: &mut Vec<f64>,
 ) -> (Metrics, f64) {
+    let (counts, rows) = (r.counts, r.drawn);
     // The predictions first: from the series when it reaches, else by exp, alone in their loop
     // because each call clobbers every vector register, so the running sums below would
     // otherwise be spilled to memory and reloaded around every row.
@@ -250,13 +251,13 @@ pub fn series_metrics(
                 .map(|&i| pythagorean_pct(x, t.ln_ratio[i as usize])),
         );
     }
-    let mut sums = Sums::default();
+    let mut sums = Sums::counted(r.counted);
     let (mut expected, mut hess) = (0.0, 0.0);
     for (&i, &p) in rows.iter().zip(scratch.iter()) {
         let i = i as usize;
         let c = counts[i];
         // The log-likelihood comes from the series below, so none is added here.
-        sums.add(t, i, c, p, 0.0);
+        sums.add_scored(t.win_pct[i], t.weight[i], c, p, 0.0);
         let l = t.ln_ratio[i];
         // An infinite ratio gives p̂ of exactly 0 or 1 whatever x is: no slope, no curvature.
         if l.is_finite() {
