@@ -161,22 +161,30 @@ impl Counted {
         const L: usize = 4;
         let mut acc = [[0.0; L]; 4];
         let n = counts.len().min(t.len());
-        let full = n / L * L;
-        for b in (0..full).step_by(L) {
+        let (c, w, d, g) = (
+            &counts[..n],
+            &t.weight[..n],
+            &t.decisions[..n],
+            &t.games[..n],
+        );
+        let mut add = |k: usize, c: f64, w: f64, d: f64, g: f64| {
+            acc[0][k] += c * w;
+            acc[1][k] += c * d;
+            acc[2][k] += c;
+            acc[3][k] += c * g;
+        };
+        let blocks = c
+            .chunks_exact(L)
+            .zip(w.chunks_exact(L))
+            .zip(d.chunks_exact(L).zip(g.chunks_exact(L)));
+        for ((c, w), (d, g)) in blocks {
             for k in 0..L {
-                let (i, c) = (b + k, counts[b + k]);
-                acc[0][k] += c * t.weight[i];
-                acc[1][k] += c * t.decisions[i];
-                acc[2][k] += c;
-                acc[3][k] += c * t.games[i];
+                add(k, c[k], w[k], d[k], g[k]);
             }
         }
-        for (k, i) in (full..n).enumerate() {
-            let c = counts[i];
-            acc[0][k] += c * t.weight[i];
-            acc[1][k] += c * t.decisions[i];
-            acc[2][k] += c;
-            acc[3][k] += c * t.games[i];
+        let tail = n / L * L;
+        for (k, i) in (tail..n).enumerate() {
+            add(k, c[i], w[i], d[i], g[i]);
         }
         let total = |a: &[f64; L]| a.iter().sum::<f64>();
         Counted {

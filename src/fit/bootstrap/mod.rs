@@ -130,14 +130,33 @@ pub fn weights(
     b: usize,
     counts: &mut Vec<f64>,
 ) {
+    weights_into(n, seasons, resample, seed, b, counts, &mut Vec::new());
+}
+
+/// [`weights`], with `hits` for the team draws' tallies: whole-number increments, converted to
+/// the counts once (an increment of an f64 in memory waits on the add before its store).
+fn weights_into(
+    n: usize,
+    seasons: &[Vec<usize>],
+    resample: Resample,
+    seed: u64,
+    b: usize,
+    counts: &mut Vec<f64>,
+    hits: &mut Vec<u32>,
+) {
     counts.clear();
     counts.resize(n, 0.0);
     let mut rng = stream(seed, b);
     match resample {
         Resample::Team => match u32::try_from(n) {
             Ok(n32) => {
+                hits.clear();
+                hits.resize(n, 0);
                 for _ in 0..n {
-                    counts[below(&mut rng, n32)] += 1.0;
+                    hits[below(&mut rng, n32)] += 1;
+                }
+                for (c, &h) in counts.iter_mut().zip(hits.iter()) {
+                    *c = f64::from(h);
                 }
             }
             Err(_) => {
@@ -175,6 +194,8 @@ struct Scratch {
     predictions: Vec<f64>,
     /// The metrics' count-only sums.
     counted: Counted,
+    /// The team draws' tallies (see [`weights_into`]).
+    hits: Vec<u32>,
 }
 
 impl Scratch {
@@ -388,13 +409,14 @@ pub fn run_all(
     let draws: Vec<Vec<Draw>> = (0..opts.resamples)
         .into_par_iter()
         .map_init(Scratch::default, |s, b| {
-            weights(
+            weights_into(
                 t.len(),
                 &seasons,
                 opts.resample,
                 opts.seed,
                 b,
                 &mut s.counts,
+                &mut s.hits,
             );
             s.prepare(t);
             let out: Vec<_> = refitters.iter().map(|r| r.refit(t, s)).collect();
