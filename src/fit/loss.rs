@@ -186,7 +186,13 @@ impl Counted {
         for (k, i) in (tail..n).enumerate() {
             add(k, c[i], w[i], d[i], g[i]);
         }
-        let total = |a: &[f64; L]| a.iter().sum::<f64>();
+        Counted::from_lanes(&acc)
+    }
+
+    /// The sums from four lanes of running sums (Σ c·weight, Σ c·decisions, Σ c, Σ c·season games),
+    /// row i in lane i mod 4, as [`Counted::of`] keeps them.
+    pub(crate) fn from_lanes(acc: &[[f64; 4]; 4]) -> Counted {
+        let total = |a: &[f64; 4]| a.iter().sum::<f64>();
         Counted {
             wsum: total(&acc[0]),
             games: total(&acc[1]),

@@ -133,8 +133,17 @@ pub fn weights(
     weights_into(n, seasons, resample, seed, b, counts, &mut Vec::new());
 }
 
-/// [`weights`], with `hits` for the team draws' tallies: whole-number increments, converted to
-/// the counts once (an increment of an f64 in memory waits on the add before its store).
+/// `n` team draws from `rng` tallied into `hits` (length `n`): whole-number increments, converted
+/// to counts once (an increment of an f64 in memory waits on the add before its store).
+fn tally(rng: &mut ChaCha8Rng, n: u32, hits: &mut Vec<u32>) {
+    hits.clear();
+    hits.resize(n as usize, 0);
+    for _ in 0..n {
+        hits[below(rng, n)] += 1;
+    }
+}
+
+/// [`weights`], with `hits` for the team draws' tallies (see [`tally`]).
 fn weights_into(
     n: usize,
     seasons: &[Vec<usize>],
@@ -150,11 +159,7 @@ fn weights_into(
     match resample {
         Resample::Team => match u32::try_from(n) {
             Ok(n32) => {
-                hits.clear();
-                hits.resize(n, 0);
-                for _ in 0..n {
-                    hits[below(&mut rng, n32)] += 1;
-                }
+                tally(&mut rng, n32, hits);
                 for (c, &h) in counts.iter_mut().zip(hits.iter()) {
                     *c = f64::from(h);
                 }
@@ -221,9 +226,45 @@ impl Scratch {
         Some((out.params, m))
     }
 
-    /// Indices of the rows drawn at least once into `drawn`, ascending. About a third of the rows
-    /// are not drawn; branch-free compaction (always write the index, advance only past drawn rows)
-    /// keeps that unpredictable branch out of the passes that follow.
+    /// Resample `b`'s counts, its drawn rows and its count-only sums, once for every model. Team
+    /// draws are tallied (see [`weights_into`]) and then turned into the counts, the drawn rows and
+    /// the sums in one sweep of the rows; season draws go through [`weights`] and [`Self::prepare`].
+    fn draw(&mut self, t: &Table, seasons: &[Vec<usize>], opts: &Options<'_>, b: usize) {
+        let n = t.len();
+        let Ok(n32) = u32::try_from(n) else {
+            weights(n, seasons, opts.resample, opts.seed, b, &mut self.counts);
+            return self.prepare(t);
+        };
+        if opts.resample == Resample::Season {
+            weights(n, seasons, opts.resample, opts.seed, b, &mut self.counts);
+            return self.prepare(t);
+        }
+        tally(&mut stream(opts.seed, b), n32, &mut self.hits);
+        const L: usize = 4;
+        let mut acc = [[0.0; L]; 4];
+        self.counts.clear();
+        self.counts.resize(n, 0.0);
+        self.drawn.clear();
+        self.drawn.resize(n, 0);
+        let (w, d, g) = (&t.weight[..n], &t.decisions[..n], &t.games[..n]);
+        let (hits, counts) = (&self.hits[..n], &mut self.counts[..n]);
+        let mut k = 0;
+        for i in 0..n {
+            let c = f64::from(hits[i]);
+            counts[i] = c;
+            self.drawn[k] = i as u32;
+            k += usize::from(hits[i] != 0);
+            // The lanes of `Counted::of`, so the same sums bit for bit.
+            let lane = i % L;
+            acc[0][lane] += c * w[i];
+            acc[1][lane] += c * d[i];
+            acc[2][lane] += c;
+            acc[3][lane] += c * g[i];
+        }
+        self.drawn.truncate(k);
+        self.counted = Counted::from_lanes(&acc);
+    }
+
     /// After the counts of a new resample are drawn, and before any model's refit: the drawn rows
     /// and the count-only sums, once for every model.
     fn prepare(&mut self, t: &Table) {
@@ -231,6 +272,9 @@ impl Scratch {
         self.counted = Counted::of(t, &self.counts);
     }
 
+    /// Indices of the rows drawn at least once into `drawn`, ascending. About a third of the rows
+    /// are not drawn; branch-free compaction (always write the index, advance only past drawn rows)
+    /// keeps that unpredictable branch out of the passes that follow.
     fn compact(&mut self) {
         let n = self.counts.len();
         self.drawn.clear();
@@ -409,16 +453,7 @@ pub fn run_all(
     let draws: Vec<Vec<Draw>> = (0..opts.resamples)
         .into_par_iter()
         .map_init(Scratch::default, |s, b| {
-            weights_into(
-                t.len(),
-                &seasons,
-                opts.resample,
-                opts.seed,
-                b,
-                &mut s.counts,
-                &mut s.hits,
-            );
-            s.prepare(t);
+            s.draw(t, &seasons, opts, b);
             let out: Vec<_> = refitters.iter().map(|r| r.refit(t, s)).collect();
             if let Some(progress) = opts.progress {
                 progress(refitters.len() as u64);
@@ -486,6 +521,34 @@ mod tests {
         // numpy.percentile([1, 2, 3, 4], 25) = 1.75 (linear interpolation, numpy's default).
         assert!((percentile(&[1.0, 2.0, 3.0, 4.0], 0.25) - 1.75).abs() < 1e-12);
         assert_eq!(percentile(&[5.0], 0.9), 5.0);
+    }
+
+    /// The fused team draw (tally, counts, drawn rows and count-only sums in one sweep) gives what
+    /// `weights` and `prepare` give, bit for bit; season draws go through them.
+    #[test]
+    fn one_sweep_draws_match_weights_then_prepare() {
+        let (t, rows) = crate::fit::testdata::databank(None, crate::data::Weighting::Games);
+        let seasons = season_index(&rows);
+        for resample in Resample::ALL {
+            let opts = Options {
+                resamples: 2,
+                seed: 9,
+                resample,
+                level: 0.95,
+                progress: None,
+            };
+            let (mut a, mut b) = (Scratch::default(), Scratch::default());
+            for draw in 0..5 {
+                a.draw(&t, &seasons, &opts, draw);
+                weights(t.len(), &seasons, resample, 9, draw, &mut b.counts);
+                b.prepare(&t);
+                assert_eq!(a.counts, b.counts);
+                assert_eq!(a.drawn, b.drawn);
+                let bits =
+                    |c: &Counted| [c.wsum, c.games, c.csum, c.season_games].map(f64::to_bits);
+                assert_eq!(bits(&a.counted), bits(&b.counted));
+            }
+        }
     }
 
     #[test]
