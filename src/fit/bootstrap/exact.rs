@@ -13,7 +13,7 @@
 
 use super::Resampled;
 use crate::data::Table;
-use crate::fit::loss::{Counted, LOGLOSS_CLAMP, Sums, row_nll};
+use crate::fit::loss::{LOGLOSS_CLAMP, Sums, row_nll};
 
 /// D, W, L, win%, weight, decisions, season games, and a pad to 64 bytes.
 pub type Packed = [f64; 8];
@@ -187,7 +187,7 @@ pub(crate) fn pythagenpat_pass(
     let s = d.abs() * bounds[1];
     let shift = bounds[0] * d.abs() * s.exp();
     // NaN (a NaN d) fails every test below and falls back too.
-    let args = (rows, r.counts, r.drawn, r.counted, metrics, with_nll);
+    let args = (rows, r, metrics, with_nll);
     if s > 0.125 || s.is_nan() {
         None
     } else if shift <= 0.125 {
@@ -201,29 +201,11 @@ pub(crate) fn pythagenpat_pass(
     }
 }
 
-/// [`pythagenpat_pass`] with H squarings: rows, counts, drawn, counted, metrics, with_nll.
-type PatArgs<'a> = (
-    &'a [PatPacked],
-    &'a [f64],
-    &'a [u32],
-    &'a Counted,
-    bool,
-    bool,
-);
+/// [`pythagenpat_pass`] with H squarings: rows, resample, metrics, with_nll.
+type PatArgs<'a> = (&'a [PatPacked], Resampled<'a>, bool, bool);
 
-fn squared<const H: u32>(
-    d: f64,
-    (rows, counts, drawn, counted, metrics, with_nll): PatArgs<'_>,
-) -> Pass {
-    pass(
-        &Pythagenpat::<H> { d },
-        rows,
-        counts,
-        drawn,
-        counted,
-        metrics,
-        with_nll,
-    )
+fn squared<const H: u32>(d: f64, (rows, r, metrics, with_nll): PatArgs<'_>) -> Pass {
+    pass(&Pythagenpat::<H> { d }, rows, r, metrics, with_nll)
 }
 
 /// max |η0·ln RPG| and max |ln RPG| over PythagenPat's rows.
@@ -332,18 +314,16 @@ impl<const H: u32> Kernel for Pythagenpat<H> {
 pub(crate) fn pass<K: Kernel>(
     kernel: &K,
     rows: &[K::Row],
-    counts: &[f64],
-    drawn: &[u32],
-    counted: &Counted,
+    r: Resampled<'_>,
     metrics: bool,
     with_nll: bool,
 ) -> Pass {
     #[cfg(target_arch = "x86_64")]
     if std::arch::is_x86_feature_detected!("avx2") {
         // SAFETY: the CPU has AVX2 (checked just above).
-        return unsafe { pass_avx2(kernel, rows, counts, drawn, counted, metrics, with_nll) };
+        return unsafe { pass_avx2(kernel, rows, r, metrics, with_nll) };
     }
-    pass_generic(kernel, rows, counts, drawn, counted, metrics, with_nll)
+    pass_generic(kernel, rows, r, metrics, with_nll)
 }
 
 /// [`pass_generic`] compiled for AVX2.
@@ -352,13 +332,11 @@ pub(crate) fn pass<K: Kernel>(
 fn pass_avx2<K: Kernel>(
     kernel: &K,
     rows: &[K::Row],
-    counts: &[f64],
-    drawn: &[u32],
-    counted: &Counted,
+    r: Resampled<'_>,
     metrics: bool,
     with_nll: bool,
 ) -> Pass {
-    pass_generic(kernel, rows, counts, drawn, counted, metrics, with_nll)
+    pass_generic(kernel, rows, r, metrics, with_nll)
 }
 
 /// [`pass`] for any CPU; inlined, so that [`pass_avx2`] compiles it for AVX2.
@@ -366,16 +344,14 @@ fn pass_avx2<K: Kernel>(
 fn pass_generic<K: Kernel>(
     kernel: &K,
     rows: &[K::Row],
-    counts: &[f64],
-    drawn: &[u32],
-    counted: &Counted,
+    r: Resampled<'_>,
     metrics: bool,
     with_nll: bool,
 ) -> Pass {
     if metrics {
-        lanes::<K, true>(kernel, rows, counts, drawn, counted, with_nll)
+        lanes::<K, true>(kernel, rows, r, with_nll)
     } else {
-        lanes::<K, false>(kernel, rows, counts, drawn, counted, with_nll)
+        lanes::<K, false>(kernel, rows, r, with_nll)
     }
 }
 
@@ -428,11 +404,14 @@ impl Acc {
 fn lanes<K: Kernel, const METRICS: bool>(
     kernel: &K,
     rows: &[K::Row],
-    counts: &[f64],
-    drawn: &[u32],
-    counted: &Counted,
+    r: Resampled<'_>,
     with_nll: bool,
 ) -> Pass {
+    let Resampled {
+        counts,
+        drawn,
+        counted,
+    } = r;
     let zero: Lane = [0.0; LANES];
     let mut acc = Acc {
         g: zero,
@@ -497,6 +476,7 @@ fn lanes<K: Kernel, const METRICS: bool>(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::fit::loss::Counted;
     use crate::model::{ModelKind, Row, logit_derivatives};
 
     #[test]
@@ -576,9 +556,9 @@ mod tests {
         if std::arch::is_x86_feature_detected!("avx2") {
             for d in [-0.01, 0.0, 0.01] {
                 let kernel = Pythagenpat::<1> { d };
-                let a = pass_generic(&kernel, &rows, &counts, &drawn, &counted, true, true);
+                let a = pass_generic(&kernel, &rows, r, true, true);
                 // SAFETY: the CPU has AVX2 (checked above).
-                let b = unsafe { pass_avx2(&kernel, &rows, &counts, &drawn, &counted, true, true) };
+                let b = unsafe { pass_avx2(&kernel, &rows, r, true, true) };
                 let (sa, sb) = (a.sums.unwrap(), b.sums.unwrap());
                 assert_eq!(a.gradient.to_bits(), b.gradient.to_bits());
                 assert_eq!(a.hessian.to_bits(), b.hessian.to_bits());

@@ -121,18 +121,6 @@ fn below(rng: &mut ChaCha8Rng, n: u32) -> usize {
     hi as usize
 }
 
-/// Row multiplicities of resample `b`.
-pub fn weights(
-    n: usize,
-    seasons: &[Vec<usize>],
-    resample: Resample,
-    seed: u64,
-    b: usize,
-    counts: &mut Vec<f64>,
-) {
-    weights_into(n, seasons, resample, seed, b, counts, &mut Vec::new());
-}
-
 /// `n` team draws from `rng` tallied into `hits` (length `n`): whole-number increments, converted
 /// to counts once (an increment of an f64 in memory waits on the add before its store).
 fn tally(rng: &mut ChaCha8Rng, n: u32, hits: &mut Vec<u32>) {
@@ -143,15 +131,14 @@ fn tally(rng: &mut ChaCha8Rng, n: u32, hits: &mut Vec<u32>) {
     }
 }
 
-/// [`weights`], with `hits` for the team draws' tallies (see [`tally`]).
-fn weights_into(
+/// Row multiplicities of resample `b`.
+pub fn weights(
     n: usize,
     seasons: &[Vec<usize>],
     resample: Resample,
     seed: u64,
     b: usize,
     counts: &mut Vec<f64>,
-    hits: &mut Vec<u32>,
 ) {
     counts.clear();
     counts.resize(n, 0.0);
@@ -159,8 +146,9 @@ fn weights_into(
     match resample {
         Resample::Team => match u32::try_from(n) {
             Ok(n32) => {
-                tally(&mut rng, n32, hits);
-                for (c, &h) in counts.iter_mut().zip(hits.iter()) {
+                let mut hits = Vec::new();
+                tally(&mut rng, n32, &mut hits);
+                for (c, &h) in counts.iter_mut().zip(&hits) {
                     *c = f64::from(h);
                 }
             }
@@ -199,7 +187,7 @@ struct Scratch {
     predictions: Vec<f64>,
     /// The metrics' count-only sums.
     counted: Counted,
-    /// The team draws' tallies (see [`weights_into`]).
+    /// The team draws' tallies (see [`tally`]).
     hits: Vec<u32>,
 }
 
@@ -227,7 +215,7 @@ impl Scratch {
     }
 
     /// Resample `b`'s counts, its drawn rows and its count-only sums, once for every model. Team
-    /// draws are tallied (see [`weights_into`]) and then turned into the counts, the drawn rows and
+    /// draws are tallied (see [`tally`]) and then turned into the counts, the drawn rows and
     /// the sums in one sweep of the rows; season draws go through [`weights`] and [`Self::prepare`].
     fn draw(&mut self, t: &Table, seasons: &[Vec<usize>], opts: &Options<'_>, b: usize) {
         let n = t.len();
@@ -287,20 +275,28 @@ impl Scratch {
         self.drawn.truncate(k);
     }
 
+    /// The resample as the passes read it.
+    fn resampled(&self) -> Resampled<'_> {
+        Resampled {
+            counts: &self.counts,
+            drawn: &self.drawn,
+            counted: &self.counted,
+        }
+    }
+
     /// PythagenPat and linear log-loss: see [`refit`].
     fn refit(&mut self, t: &Table, prepared: &Prepared) -> Option<(Vec<f64>, Metrics)> {
-        prepared.refit(t, &self.counts, &self.drawn, &self.counted)
+        prepared.refit(t, self.resampled())
     }
 
     /// Pythagenport log-loss: see [`pythagenport`].
     fn pythagenport(&mut self, t: &Table, series: &PortSeries) -> Option<(Vec<f64>, Metrics)> {
-        series.refit(
-            t,
-            &self.counts,
-            &self.drawn,
-            &self.counted,
-            &mut self.predictions,
-        )
+        let r = Resampled {
+            counts: &self.counts,
+            drawn: &self.drawn,
+            counted: &self.counted,
+        };
+        series.refit(t, r, &mut self.predictions)
     }
 
     /// The Pythagorean log-loss: the general path's numbers from one pass of exp over the rows

@@ -18,7 +18,7 @@ use super::Resampled;
 use super::columns::BySeason;
 use super::series::{logistic_derivative_polys, shifted_logistic, shifted_logistic_squared};
 use crate::data::Table;
-use crate::fit::loss::{Counted, Metrics, Sums, row_nll};
+use crate::fit::loss::{Metrics, Sums, row_nll};
 use crate::model::logistic;
 
 /// Highest power of δ kept in the log-loss polynomial.
@@ -319,26 +319,19 @@ impl PortSeries {
     }
 
     /// A resample's optimum and metrics, or `None` for the general solver. `drawn`: the rows whose
-    /// count is not zero, ascending; `counted`: the resample's count-only sums; `scratch` holds
-    /// their p̂.
+    /// count is not zero, ascending, in `r`; `scratch` holds their p̂.
     pub(crate) fn refit(
         &self,
         t: &Table,
-        counts: &[f64],
-        drawn: &[u32],
-        counted: &Counted,
+        r: Resampled<'_>,
         scratch: &mut Vec<f64>,
     ) -> Option<(Vec<f64>, Metrics)> {
+        let (counts, drawn) = (r.counts, r.drawn);
         let s = self.sums(counts, drawn);
         let delta = self.optimum(&s)?;
         let mut theta = [self.theta0[0] + delta[0], self.theta0[1] + delta[1]];
         for n in 0..PASSES {
             let series_nll = n == 0;
-            let r = Resampled {
-                counts,
-                drawn,
-                counted,
-            };
             let pass = self.pass(t, theta, r, series_nll, scratch);
             if pass.edge <= EDGE {
                 return None;

@@ -296,14 +296,12 @@ impl Prepared {
 
     /// A resample's optimum and metrics (see the module notes), or `None` for the general solver.
     /// `drawn`: the rows whose count is not zero, ascending.
-    /// `counted`: the resample's count-only sums.
-    pub(crate) fn refit(
-        &self,
-        t: &Table,
-        counts: &[f64],
-        drawn: &[u32],
-        counted: &Counted,
-    ) -> Option<(Vec<f64>, Metrics)> {
+    pub(crate) fn refit(&self, t: &Table, r: Resampled<'_>) -> Option<(Vec<f64>, Metrics)> {
+        let Resampled {
+            counts,
+            drawn,
+            counted,
+        } = r;
         let Some(stretches) = &self.stretches else {
             if self.kind == ModelKind::Linear {
                 let theta = self.predict(counts, drawn).map_or(self.theta0, |p| p.0);
@@ -412,15 +410,12 @@ impl Prepared {
                 return None;
             }
             let kernel = exact::Linear { u };
-            let pass = exact::pass(
-                &kernel,
-                &self.packed,
+            let r = Resampled {
                 counts,
                 drawn,
                 counted,
-                metrics,
-                nll.is_none(),
-            );
+            };
+            let pass = exact::pass(&kernel, &self.packed, r, metrics, nll.is_none());
             if pass.edge <= EDGE {
                 return None;
             }
