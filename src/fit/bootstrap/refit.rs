@@ -337,7 +337,7 @@ impl Prepared {
                 Verdict::Unknown => return None,
                 Verdict::Search(lo, hi) => {
                     let u = pieces::stretch_minimum(
-                        |u| stretches::derivatives(t, counts, drawn, u),
+                        pieces::pole_free(|u| stretches::derivatives(t, counts, drawn, u), hi),
                         lo,
                         hi,
                         SEARCH_TOL,
@@ -374,7 +374,7 @@ impl Prepared {
         }
         let (lo, hi) = stretches.around(counts, 1.0 / self.theta0);
         let u = pieces::stretch_minimum(
-            |u| stretches::derivatives(t, counts, drawn, u),
+            pieces::pole_free(|u| stretches::derivatives(t, counts, drawn, u), hi),
             lo,
             hi,
             SEARCH_TOL,

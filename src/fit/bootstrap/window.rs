@@ -202,8 +202,12 @@ impl Window {
         let mut a = lo;
         for &b in &ends {
             if b > a
-                && let Some(u) =
-                    pieces::stretch_minimum(|u| self.derivatives(t, sums, u), a, b, SEARCH_TOL)
+                && let Some(u) = pieces::stretch_minimum(
+                    pieces::pole_free(|u| self.derivatives(t, sums, u), b),
+                    a,
+                    b,
+                    SEARCH_TOL,
+                )
             {
                 let v = self.value(t, sums, u);
                 if best.is_none_or(|(_, least)| v < least) {
